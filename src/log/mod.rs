@@ -22,6 +22,7 @@
 //! ```
 
 pub mod column;
+pub mod factorize;
 pub mod select;
 pub mod views;
 
@@ -141,7 +142,10 @@ fn check_cat(col: &Column, what: &str) -> TmResult<()> {
         _ => Err(TmError::schema(
             col.name.clone(),
             None,
-            format!("the {what} column '{}' must be categorical (text)", col.name),
+            format!(
+                "the {what} column '{}' must be categorical (text)",
+                col.name
+            ),
         )),
     }
 }
@@ -152,9 +156,14 @@ impl EventLog {
     pub fn build(input: LogInput) -> TmResult<(EventLog, BuildReport)> {
         let n = input.case.len();
         if n == 0 {
-            return Err(TmError::data("the event log is empty: no events were given"));
+            return Err(TmError::data(
+                "the event log is empty: no events were given",
+            ));
         }
-        for (name, len) in [("activity", input.activity.len()), ("timestamp", input.time.len())] {
+        for (name, len) in [
+            ("activity", input.activity.len()),
+            ("timestamp", input.time.len()),
+        ] {
             if len != n {
                 return Err(TmError::schema(
                     name,
@@ -549,7 +558,11 @@ pub(crate) mod tests {
         ]);
         assert_eq!(log.n_cases(), 2);
         let names = log.activity_names();
-        let t0: Vec<&str> = log.trace(0).iter().map(|&a| names[a as usize].as_str()).collect();
+        let t0: Vec<&str> = log
+            .trace(0)
+            .iter()
+            .map(|&a| names[a as usize].as_str())
+            .collect();
         assert_eq!(t0, ["a", "b", "c"]); // tie b,c at 5 kept in input order
         assert_eq!(log.trace_times(1), &[0, 1]);
         assert_eq!(log.rows(), &[2, 0, 3, 4, 1]);
@@ -577,9 +590,18 @@ pub(crate) mod tests {
             EventLog::build(LogInput::default()),
             Err(TmError::Data { .. })
         ));
-        let input = LogInput::new(vec![0, 1], vec!["c".into()], vec![0, 0], vec!["a".into()], vec![1, 2]);
+        let input = LogInput::new(
+            vec![0, 1],
+            vec!["c".into()],
+            vec![0, 0],
+            vec!["a".into()],
+            vec![1, 2],
+        );
         let err = EventLog::build(input).unwrap_err();
-        assert!(matches!(err, TmError::Schema { row: Some(1), .. }), "{err:?}");
+        assert!(
+            matches!(err, TmError::Schema { row: Some(1), .. }),
+            "{err:?}"
+        );
     }
 
     #[test]
@@ -597,13 +619,19 @@ pub(crate) mod tests {
             valid: None,
         }]);
         let err = EventLog::build(input.clone()).unwrap_err();
-        assert!(err.to_string().contains("conflicting values for case 'c1'"), "{err}");
+        assert!(
+            err.to_string().contains("conflicting values for case 'c1'"),
+            "{err}"
+        );
         input.case_attrs = CaseAttrs::PerRow(vec![Column {
             name: "size".into(),
             values: Values::I64(vec![1, 0, 7]),
             valid: Some(vec![true, false, true]),
         }]);
         let (log, _) = EventLog::build(input).unwrap();
-        assert_eq!(log.case_attr("size").unwrap().values, Values::I64(vec![1, 7]));
+        assert_eq!(
+            log.case_attr("size").unwrap().values,
+            Values::I64(vec![1, 7])
+        );
     }
 }

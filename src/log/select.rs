@@ -50,7 +50,10 @@ impl EventLog {
         if let Some(&bad) = cases.iter().find(|&&c| c >= self.n_cases()) {
             return Err(TmError::param(
                 "cases",
-                format!("case index {bad} is out of range for a log of {} cases", self.n_cases()),
+                format!(
+                    "case index {bad} is out of range for a log of {} cases",
+                    self.n_cases()
+                ),
             ));
         }
         if cases.is_empty() {
@@ -137,7 +140,10 @@ impl EventLog {
             covered += v.counts[keep];
             keep += 1;
         }
-        Ok(v.case_variant.iter().map(|&x| (x as usize) < keep).collect())
+        Ok(v.case_variant
+            .iter()
+            .map(|&x| (x as usize) < keep)
+            .collect())
     }
 
     /// Cases with at least `min` and at most `max` events.
@@ -200,10 +206,15 @@ mod tests {
 
     fn demo() -> EventLog {
         log_from(&[
-            ("1", "a", 0), ("1", "b", 10),
-            ("2", "a", 5), ("2", "c", 20),
-            ("3", "a", 30), ("3", "b", 40), ("3", "b", 41),
-            ("4", "a", 1), ("4", "b", 2),
+            ("1", "a", 0),
+            ("1", "b", 10),
+            ("2", "a", 5),
+            ("2", "c", 20),
+            ("3", "a", 30),
+            ("3", "b", 40),
+            ("3", "b", 41),
+            ("4", "a", 1),
+            ("4", "b", 2),
         ])
     }
 
@@ -223,10 +234,22 @@ mod tests {
     #[test]
     fn windows() {
         let log = demo();
-        assert_eq!(log.window_mask(0, 11, WindowRule::Contained), vec![true, false, false, true]);
-        assert_eq!(log.window_mask(8, 11, WindowRule::Intersecting), vec![true, false, false, false]);
-        assert_eq!(log.window_mask(5, 31, WindowRule::Started), vec![false, true, true, false]);
-        assert_eq!(log.window_mask(15, 25, WindowRule::Completed), vec![false, true, false, false]);
+        assert_eq!(
+            log.window_mask(0, 11, WindowRule::Contained),
+            vec![true, false, false, true]
+        );
+        assert_eq!(
+            log.window_mask(8, 11, WindowRule::Intersecting),
+            vec![true, false, false, false]
+        );
+        assert_eq!(
+            log.window_mask(5, 31, WindowRule::Started),
+            vec![false, true, true, false]
+        );
+        assert_eq!(
+            log.window_mask(15, 25, WindowRule::Completed),
+            vec![false, true, false, false]
+        );
         assert!(WindowRule::parse("nope").is_err());
     }
 
@@ -234,7 +257,10 @@ mod tests {
     fn coverage_length_sample_split() {
         let log = demo();
         // variants: ab x2, ac x1, abb x1 -> 50 % is covered by ab alone.
-        assert_eq!(log.top_variants_mask(0.5).unwrap(), vec![true, false, false, true]);
+        assert_eq!(
+            log.top_variants_mask(0.5).unwrap(),
+            vec![true, false, false, true]
+        );
         assert_eq!(log.top_variants_mask(1.0).unwrap(), vec![true; 4]);
         assert!(log.top_variants_mask(0.0).is_err());
         assert_eq!(log.length_mask(3, 10), vec![false, false, true, false]);

@@ -13,7 +13,7 @@
 //! pandas), so they can be checked against `DataFrame.quantile`.
 
 use std::collections::HashMap;
-use std::hash::{BuildHasher, Hash, Hasher};
+use std::hash::BuildHasher;
 use std::sync::{Arc, OnceLock};
 
 use rayon::prelude::*;
@@ -215,7 +215,11 @@ unsafe impl<T> Send for SyncPtr<T> {}
 impl EventLog {
     /// The variants of the log (cached).
     pub fn variants(&self) -> Arc<Variants> {
-        Arc::clone(self.cache.variants.get_or_init(|| Arc::new(self.compute_variants())))
+        Arc::clone(
+            self.cache
+                .variants
+                .get_or_init(|| Arc::new(self.compute_variants())),
+        )
     }
 
     fn compute_variants(&self) -> Variants {
@@ -224,11 +228,7 @@ impl EventLog {
         let hashes: Vec<u64> = (0..n)
             .into_par_iter()
             .with_min_len(1024)
-            .map(|c| {
-                let mut h = state.build_hasher();
-                self.trace(c).hash(&mut h);
-                h.finish()
-            })
+            .map(|c| state.hash_one(self.trace(c)))
             .collect();
         // Group cases by trace: a hash map from hash to candidate variant ids; equal hashes are
         // confirmed by comparing the sequences, so collisions cannot merge different traces.
@@ -237,7 +237,9 @@ impl EventLog {
         let mut by_hash: HashMap<u64, smallvec_like::Ids> = HashMap::with_capacity(1024);
         for c in 0..n {
             let ids = by_hash.entry(hashes[c]).or_default();
-            let found = ids.iter().find(|&&v| self.trace(first_case[v as usize]) == self.trace(c));
+            let found = ids
+                .iter()
+                .find(|&&v| self.trace(first_case[v as usize]) == self.trace(c));
             let v = match found {
                 Some(&v) => v,
                 None => {
@@ -300,7 +302,10 @@ impl EventLog {
             let start: Vec<i64> = (0..n).into_par_iter().map(|c| t[o[c]]).collect();
             let end: Vec<i64> = (0..n).into_par_iter().map(|c| t[o[c + 1] - 1]).collect();
             let duration = start.par_iter().zip(&end).map(|(s, e)| e - s).collect();
-            let length = (0..n).into_par_iter().map(|c| (o[c + 1] - o[c]) as u32).collect();
+            let length = (0..n)
+                .into_par_iter()
+                .map(|c| (o[c + 1] - o[c]) as u32)
+                .collect();
             Arc::new(CaseStats {
                 start,
                 end,
@@ -392,7 +397,10 @@ impl EventLog {
         let (keys, gaps, ev) = self.df_pairs();
         // Case index of each pair, for the distinct-case count.
         let case_of_event = self.case_of_events();
-        let case_vals: Vec<i64> = ev.par_iter().map(|&i| i64::from(case_of_event[i as usize])).collect();
+        let case_vals: Vec<i64> = ev
+            .par_iter()
+            .map(|&i| i64::from(case_of_event[i as usize]))
+            .collect();
         let (off, mut grouped) = group_by_key(&keys, &gaps, nk);
         let (_, grouped_cases) = group_by_key(&keys, &case_vals, nk);
         let present: Vec<usize> = (0..nk).filter(|&k| off[k + 1] > off[k]).collect();
@@ -428,7 +436,10 @@ impl EventLog {
         DirectlyFollows {
             from: present.iter().map(|&k| (k / na) as u32).collect(),
             to: present.iter().map(|&k| (k % na) as u32).collect(),
-            count: present.iter().map(|&k| (off[k + 1] - off[k]) as u64).collect(),
+            count: present
+                .iter()
+                .map(|&k| (off[k + 1] - off[k]) as u64)
+                .collect(),
             cases: ncases,
             mean: stats.iter().map(|s| s.0).collect(),
             median: stats.iter().map(|s| s.1).collect(),
@@ -518,7 +529,11 @@ impl EventLog {
         let na = self.activity_names.len();
         let lc = self.lifecycle.as_ref().and_then(|c| match &c.values {
             Values::Cat { codes, dict } => {
-                let find = |s: &str| dict.iter().position(|d| d.eq_ignore_ascii_case(s)).map(|i| i as u32);
+                let find = |s: &str| {
+                    dict.iter()
+                        .position(|d| d.eq_ignore_ascii_case(s))
+                        .map(|i| i as u32)
+                };
                 Some((codes, find("start"), find("complete"), c))
             }
             _ => None,
@@ -539,6 +554,7 @@ impl EventLog {
                         // Service: start -> the next complete of the same activity.
                         let mut last_complete: Option<i64> = None;
                         let mut open: Vec<(u32, i64)> = Vec::new();
+                        #[allow(clippy::needless_range_loop)]
                         for i in s..e {
                             if !col.is_valid(i) {
                                 continue;
@@ -622,17 +638,24 @@ mod tests {
     use super::*;
 
     fn names(log: &EventLog, seq: &[u32]) -> String {
-        seq.iter().map(|&a| log.activity_names()[a as usize].as_str()).collect()
+        seq.iter()
+            .map(|&a| log.activity_names()[a as usize].as_str())
+            .collect()
     }
 
     #[test]
     fn variants_are_ordered_by_count() {
         let log = log_from(&[
-            ("1", "a", 1), ("1", "b", 2),
-            ("2", "a", 1), ("2", "c", 2),
-            ("3", "a", 1), ("3", "c", 2),
-            ("4", "a", 1), ("4", "b", 2),
-            ("5", "a", 1), ("5", "c", 2),
+            ("1", "a", 1),
+            ("1", "b", 2),
+            ("2", "a", 1),
+            ("2", "c", 2),
+            ("3", "a", 1),
+            ("3", "c", 2),
+            ("4", "a", 1),
+            ("4", "b", 2),
+            ("5", "a", 1),
+            ("5", "c", 2),
         ]);
         let v = log.variants();
         assert_eq!(v.len(), 2);
@@ -646,11 +669,20 @@ mod tests {
     fn directly_follows_counts_and_gaps() {
         // Section G running example style: a->b gaps 1, 3, 10.
         let log = log_from(&[
-            ("1", "a", 0), ("1", "b", 1), ("1", "a", 2), ("1", "b", 5),
-            ("2", "a", 0), ("2", "b", 10),
+            ("1", "a", 0),
+            ("1", "b", 1),
+            ("1", "a", 2),
+            ("1", "b", 5),
+            ("2", "a", 0),
+            ("2", "b", 10),
         ]);
         let df = log.directly_follows();
-        let ab = df.from.iter().zip(&df.to).position(|(&f, &t)| f == 0 && t == 1).unwrap();
+        let ab = df
+            .from
+            .iter()
+            .zip(&df.to)
+            .position(|(&f, &t)| f == 0 && t == 1)
+            .unwrap();
         assert_eq!(df.count[ab], 3);
         assert_eq!(df.cases[ab], 2);
         assert!((df.mean[ab] - 14.0 / 3.0).abs() < 1e-12);
@@ -670,7 +702,10 @@ mod tests {
     #[test]
     fn rework_and_counts() {
         let log = log_from(&[
-            ("1", "a", 0), ("1", "b", 1), ("1", "a", 2), ("1", "a", 3),
+            ("1", "a", 0),
+            ("1", "b", 1),
+            ("1", "a", 2),
+            ("1", "a", 3),
             ("2", "b", 0),
         ]);
         let r = log.rework();

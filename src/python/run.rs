@@ -1,0 +1,74 @@
+//! One helper for running kernels from Python: release the GIL, stop on Ctrl-C, report
+//! progress, and turn a panic into a `tracemill.exceptions.InternalError`.
+//!
+//! The kernel runs on a scoped worker thread with the GIL released. The calling thread waits in
+//! slices of about 100 ms; after each slice it re-attaches to the interpreter, checks for signals
+//! (Ctrl-C cancels the kernel through its [`Control`]) and calls the progress callback, if any,
+//! with `(done, total)`. Rayon workers never call Python.
+
+use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::time::Duration;
+
+use pyo3::prelude::*;
+
+use super::errors::to_py;
+use crate::control::Control;
+use crate::error::{TmError, TmResult};
+
+/// Run `f` with the GIL released; see the module documentation.
+pub fn run<T, F>(py: Python<'_>, progress: Option<Py<PyAny>>, f: F) -> PyResult<T>
+where
+    T: Send,
+    F: FnOnce(&Control) -> TmResult<T> + Send,
+{
+    let ctl = Control::new();
+    let mut py_err: Option<PyErr> = None;
+    let out: TmResult<T> = py.detach(|| {
+        std::thread::scope(|s| {
+            let handle = s.spawn(|| {
+                catch_unwind(AssertUnwindSafe(|| f(&ctl))).unwrap_or_else(|p| {
+                    let what = p
+                        .downcast_ref::<&str>()
+                        .map(|s| (*s).to_string())
+                        .or_else(|| p.downcast_ref::<String>().cloned())
+                        .unwrap_or_else(|| "unknown panic".into());
+                    Err(TmError::Internal {
+                        message: format!("internal error: {what}"),
+                    })
+                })
+            });
+            let mut waited = 0u32;
+            while !handle.is_finished() {
+                std::thread::sleep(Duration::from_millis(if waited < 20 { 5 } else { 100 }));
+                waited += 1;
+                if waited < 20 {
+                    continue;
+                }
+                Python::attach(|py| {
+                    if py_err.is_none() {
+                        if let Err(e) = py.check_signals() {
+                            ctl.cancel();
+                            py_err = Some(e);
+                        }
+                    }
+                    if let Some(cb) = &progress {
+                        let (done, total) = ctl.progress();
+                        if let Err(e) = cb.call1(py, (done, total)) {
+                            ctl.cancel();
+                            py_err.get_or_insert(e);
+                        }
+                    }
+                });
+            }
+            handle.join().unwrap_or_else(|_| {
+                Err(TmError::Internal {
+                    message: "internal error: worker thread failed".into(),
+                })
+            })
+        })
+    });
+    if let Some(e) = py_err {
+        return Err(e);
+    }
+    out.map_err(to_py)
+}
