@@ -63,7 +63,7 @@ def summarise(log: EventLog, top: int = 5) -> str:
 
 def run_demo(n_cases: int = 20_000, seed: int = 7, out: str | None = None) -> str:
     """Run every demo section and return the report text."""
-    from .simulate import workshop
+    from .simulation import workshop
 
     t0 = time.perf_counter()
     log, truth = workshop(n_cases=n_cases, random_state=seed)

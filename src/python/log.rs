@@ -3,7 +3,7 @@
 
 use std::sync::Arc;
 
-use numpy::{IntoPyArray, PyArray1};
+use numpy::{IntoPyArray, PyArray1, PyArray2};
 use pyo3::prelude::*;
 use pyo3::types::{PyList, PyTuple};
 
@@ -225,6 +225,19 @@ impl PyLog {
                 d.p90.into_pyarray(py).into_any(),
             ],
         )
+    }
+
+    /// Directly-follows counts as a dense `n_activities x n_activities` matrix.
+    fn df_counts<'py>(&self, py: Python<'py>) -> PyResult<Bound<'py, PyArray2<u64>>> {
+        let l = Arc::clone(&self.inner);
+        let na = l.activity_names().len();
+        let m = run(py, None, move |_| Ok(l.df_matrix()))?;
+        let arr = ndarray::Array2::from_shape_vec((na, na), m).map_err(|e| {
+            to_py(crate::TmError::Internal {
+                message: e.to_string(),
+            })
+        })?;
+        Ok(arr.into_pyarray(py))
     }
 
     /// `(cases, repeats, case_repeats)`.
