@@ -121,8 +121,17 @@ pub struct EventLog {
     pub(crate) cache: views::Cache,
 }
 
-fn check_codes(name: &str, codes: &[u32], n: usize, rows: Option<&[u64]>) -> TmResult<()> {
-    if let Some(i) = codes.iter().position(|&c| c as usize >= n) {
+/// Check that every code of a non-null row is inside the dictionary (codes under nulls are
+/// unspecified, e.g. `u32::MAX`, and never read).
+fn check_codes(
+    name: &str,
+    codes: &[u32],
+    n: usize,
+    valid: Option<&[bool]>,
+    rows: Option<&[u64]>,
+) -> TmResult<()> {
+    let bad = |(i, &c): (usize, &u32)| c as usize >= n && valid.is_none_or(|v| v[i]);
+    if let Some(i) = codes.iter().enumerate().position(bad) {
         let row = rows.map_or(i as u64, |r| r[i]);
         return Err(TmError::schema(
             name,
@@ -138,7 +147,9 @@ fn check_codes(name: &str, codes: &[u32], n: usize, rows: Option<&[u64]>) -> TmR
 
 fn check_cat(col: &Column, what: &str) -> TmResult<()> {
     match &col.values {
-        Values::Cat { codes, dict } => check_codes(&col.name, codes, dict.len(), None),
+        Values::Cat { codes, dict } => {
+            check_codes(&col.name, codes, dict.len(), col.valid.as_deref(), None)
+        }
         _ => Err(TmError::schema(
             col.name.clone(),
             None,
@@ -184,11 +195,12 @@ impl EventLog {
             None => (0..n as u64).collect(),
         };
         let n_cases = input.case_names.len();
-        check_codes("case", &input.case, n_cases, Some(&rows))?;
+        check_codes("case", &input.case, n_cases, None, Some(&rows))?;
         check_codes(
             "activity",
             &input.activity,
             input.activity_names.len(),
+            None,
             Some(&rows),
         )?;
         let extra = input
@@ -210,6 +222,15 @@ impl EventLog {
         }
         if let Some(c) = &input.lifecycle {
             check_cat(c, "lifecycle")?;
+        }
+        let attrs = match &input.case_attrs {
+            CaseAttrs::None => &[][..],
+            CaseAttrs::PerRow(c) | CaseAttrs::PerCase(c) => &c[..],
+        };
+        for c in input.event_attrs.iter().chain(attrs) {
+            if matches!(c.values, Values::Cat { .. }) {
+                check_cat(c, "attribute")?;
+            }
         }
 
         // Counting sort by case code (stable: input order kept within a case).
@@ -597,6 +618,40 @@ pub(crate) mod tests {
             vec!["a".into()],
             vec![1, 2],
         );
+        let err = EventLog::build(input).unwrap_err();
+        assert!(
+            matches!(err, TmError::Schema { row: Some(1), .. }),
+            "{err:?}"
+        );
+    }
+
+    #[test]
+    fn null_codes_are_not_checked_but_bad_codes_are() {
+        let mut input = LogInput::new(
+            vec![0, 0],
+            vec!["c".into()],
+            vec![0, 0],
+            vec!["a".into()],
+            vec![1, 2],
+        );
+        let dict = Arc::new(vec!["ana".to_string()]);
+        input.resource = Some(Column {
+            name: "resource".into(),
+            values: Values::Cat {
+                codes: vec![0, u32::MAX],
+                dict: Arc::clone(&dict),
+            },
+            valid: Some(vec![true, false]),
+        });
+        let (log, _) = EventLog::build(input.clone()).unwrap();
+        assert_eq!(log.resource().unwrap().null_count(), 1);
+        input.event_attrs = vec![Column::new(
+            "part",
+            Values::Cat {
+                codes: vec![0, 3],
+                dict,
+            },
+        )];
         let err = EventLog::build(input).unwrap_err();
         assert!(
             matches!(err, TmError::Schema { row: Some(1), .. }),
