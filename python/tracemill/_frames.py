@@ -25,6 +25,7 @@ from .exceptions import SchemaError, TimestampError
 
 NULL_CODE = np.uint32(0xFFFFFFFF)
 _AWARE = r"(?:[zZ]|[+-]\d{2}:?\d{2})\s*$"
+_ISO = r"^\s*\d{4}-\d{2}-\d{2}"
 
 
 def optional_import(name: str, extra: str | None = None) -> Any:
@@ -146,11 +147,13 @@ def encode_labels(col: Any, kind: str, name: str) -> Labels:
         pd = importlib.import_module("pandas")
         dt = col.dtype
         if isinstance(dt, pd.CategoricalDtype):
-            codes = col.cat.codes.to_numpy()
-            cats = col.cat.categories
+            # Category codes follow the category order and may name unused categories: re-encode
+            # them by first appearance, as every other input is, keeping only used categories.
+            codes = col.cat.codes.to_numpy().astype(np.int64)
             valid = codes >= 0 if (codes < 0).any() else None
-            c = np.where(codes < 0, NULL_CODE, codes).astype(np.uint32)
-            return Labels(c, [str(x) for x in cats], np.asarray(cats, dtype=object), valid)
+            c, used = _core.factorize_i64(codes, valid)
+            cats = np.asarray(col.cat.categories, dtype=object)[used]
+            return Labels(c, [str(x) for x in cats], cats, valid)
         if dt.kind in "iu" and not isinstance(dt, pd.api.extensions.ExtensionDtype):
             return _labels_from_ints(col.to_numpy(), None)
         if isinstance(dt, pd.api.extensions.ExtensionDtype) and dt.kind in "iu":
@@ -167,7 +170,7 @@ def encode_labels(col: Any, kind: str, name: str) -> Labels:
         codes, uniq = pd.factorize(col, use_na_sentinel=True)
         valid = codes >= 0
         c = np.where(valid, codes, NULL_CODE).astype(np.uint32)
-        originals = np.asarray(uniq, dtype=object) if uniq.dtype.kind not in "iufb" else np.asarray(uniq)
+        originals = np.asarray(uniq, dtype=object if uniq.dtype.kind not in "iufb" else None)
         return Labels(c, [str(x) for x in uniq], originals, None if valid.all() else valid)
     if kind == "polars":
         pl = importlib.import_module("polars")
@@ -275,6 +278,15 @@ def encode_times(col: Any, kind: str, name: str, fmt: str | None, *, allow_null:
             if fmt is not None:
                 is_aware = "%z" in fmt or "%Z" in fmt
             else:
+                # Without a format only ISO 8601 is accepted, as for pandas input: polars would
+                # otherwise guess a layout such as day/month/year for ambiguous dates.
+                iso = s.str.contains(_ISO).fill_null(True).to_numpy()
+                bad = np.flatnonzero(present & ~iso)
+                if len(bad):
+                    r = int(bad[0])
+                    raise _tserr(name, r, f"column '{name}', row {r}: {s[r]!r} is not an ISO 8601 "
+                                 "timestamp; pass timestamp_format= (a strptime format) to parse "
+                                 "other layouts")
                 is_aware = _check_mixed(aware, present, name, lambda r: s[r])
             try:
                 parsed = s.str.to_datetime(

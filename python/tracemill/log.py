@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import os
+import re
 import warnings
 from collections.abc import Callable, Sequence
 from typing import Any, Literal
@@ -10,7 +11,7 @@ from typing import Any, Literal
 import numpy as np
 
 from . import _core
-from ._frames import prepare
+from ._frames import _AWARE, prepare
 from ._output import Col, check_kind, make_frame
 from .exceptions import DataQualityWarning, ParameterError, SchemaError
 
@@ -24,24 +25,30 @@ def _param(name: str, msg: str) -> ParameterError:
 
 
 def _to_ns(t: Any, name: str) -> int:
-    """A timestamp-like value (str, datetime, numpy/pandas timestamp, int ns) as int ns UTC."""
+    """A timestamp-like value (str, datetime, numpy/pandas timestamp, int ns) as int ns UTC.
+    Naive values are taken as UTC; aware ones are converted to UTC."""
+    if isinstance(t, (bool, np.bool_)):
+        raise _param(name, f"{name} must be a timestamp (text, datetime or int ns); got {t!r}")
     if isinstance(t, (int, np.integer)):
         return int(t)
-    if isinstance(t, str):
-        v = np.datetime64(t.replace("Z", "").split("+")[0], "ns") if "+" not in t[10:] else None
-        if v is not None and not t.endswith("Z"):
-            return int(v.astype(np.int64))
     try:
         import pandas as pd
-
-        ts = pd.Timestamp(t)
-        if ts.tzinfo is not None:
-            ts = ts.tz_convert("UTC").tz_localize(None)
-        return int(ts.as_unit("ns").value)
-    except ImportError:  # pragma: no cover
-        pass
-    if isinstance(t, np.datetime64):
-        return int(t.astype("datetime64[ns]").astype(np.int64))
+    except ImportError:  # pragma: no cover - pandas is optional
+        pd = None
+    try:
+        if pd is not None:
+            ts = pd.Timestamp(t)
+            if ts is not pd.NaT:
+                if ts.tzinfo is not None:
+                    ts = ts.tz_convert("UTC").tz_localize(None)
+                return int(ts.as_unit("ns").value)
+        elif isinstance(t, str) and re.search(_AWARE, t) is None:  # pragma: no cover
+            t = np.datetime64(t, "ns")
+        if isinstance(t, np.datetime64) and not np.isnat(t):  # pragma: no cover
+            return int(t.astype("datetime64[ns]").astype(np.int64))
+    except (ValueError, TypeError, OverflowError) as e:
+        raise _param(name, f"{name} must be a timestamp (text, datetime or int ns); got {t!r}: "
+                     f"{e}") from e
     raise _param(name, f"{name} must be a timestamp (text, datetime or int ns); got {t!r}")
 
 
@@ -267,7 +274,7 @@ class EventLog:
         log order (by case, then time).
         """
         check_kind(kind)
-        offsets, keys, act, time, _row = self._h.core_arrays()
+        _offsets, keys, act, time, _row = self._h.core_arrays()
         case_of = self._h.case_of_events()
         cols: dict[str, Col] = {
             "case": Col(self._case_originals[keys][case_of]),
@@ -368,7 +375,7 @@ class EventLog:
         ``service_median``)."""
         ev, cs, st, en = self._h.activity_counts()
         rc, rep, _ = self._h.rework()
-        wc, wm, wmed, wt, sc, sm, smed = self._h.activity_times()
+        _wc, wm, wmed, wt, _sc, sm, smed = self._h.activity_times()
         cols = {
             "activity": Col(np.asarray(self.activities, dtype=object)),
             "events": Col(ev.astype(np.int64)),
@@ -461,7 +468,7 @@ class EventLog:
 
 
 def _col_of(t: tuple, tz: str | None) -> Col:
-    name, kind, values, valid, names = t
+    _name, kind, values, valid, names = t
     if kind == "str":
         return Col(values, kind="text", names=names, valid=valid)
     if kind == "time":
