@@ -410,7 +410,9 @@ class EventLog:
         if missing:
             raise _param("which", f"unknown case ids: {missing[:5]}"
                          f"{' ...' if len(missing) > 5 else ''}")
-        idx = np.sort(np.fromiter((pos[v] for v in arr.tolist()), dtype=np.int64, count=len(arr)))
+        # np.unique sorts and drops repeated ids: each case is selected at most once.
+        idx = np.unique(np.fromiter((pos[v] for v in arr.tolist()), dtype=np.int64,
+                                    count=len(arr)))
         return self._derive(self._h.select_cases(idx))
 
     def where(self, predicate: Callable[[Any], Any]) -> EventLog:
@@ -439,7 +441,8 @@ class EventLog:
         """Cases with between ``min_events`` and ``max_events`` events (inclusive)."""
         mx = np.iinfo(np.int64).max if max_events is None else int(max_events)
         if min_events < 0 or mx < min_events:
-            raise _param("max_events", "need 0 <= min_events <= max_events")
+            raise _param("min_events" if min_events < 0 else "max_events",
+                         f"need 0 <= min_events <= max_events; got {min_events} and {max_events}")
         return self.select_cases(self._h.length_mask(int(min_events), mx))
 
     def sample(self, n: int | None = None, *, frac: float | None = None,
@@ -447,6 +450,10 @@ class EventLog:
         """A uniform random sample of cases (``n`` cases or a fraction ``frac``), seeded."""
         if (n is None) == (frac is None):
             raise _param("n", "give exactly one of n and frac")
+        if isinstance(random_state, bool) or not isinstance(random_state, (int, np.integer)) \
+                or not 0 <= random_state < 2**64:
+            raise _param("random_state", "random_state must be an int in [0, 2**64); got "
+                         f"{random_state!r}")
         if frac is not None:
             if not 0 < frac <= 1:
                 raise _param("frac", f"frac must be in (0, 1]; got {frac}")
