@@ -119,6 +119,15 @@ FRAME_CASES = {
     "attribute given twice": (
         small(), {"event_attributes": ["mechanic"], "case_attributes": ["mechanic"]},
         Err(tm.SchemaError, "given twice", column="mechanic")),
+    "event attribute named like a standard column": (
+        small().rename(columns={"case": "order"}).assign(case=list("wxyz")),
+        {"case": "order", "event_attributes": ["case"]},
+        Err(tm.SchemaError, "the event attribute 'case' has the name of a standard column",
+            column="case")),
+    "case attribute named like a case-table column": (
+        small().assign(start=["a", "a", "b", "c"]), {"case_attributes": ["start"]},
+        Err(tm.SchemaError, "the case attribute 'start' has the name of a standard column",
+            column="start")),
     "role column as attribute": (
         small(), {"event_attributes": ["timestamp"]},
         Err(tm.SchemaError, "given twice", column="timestamp")),

@@ -452,6 +452,17 @@ def prepare(frame: Any, *, case: str, activity: str, timestamp: str, resource: s
             raise _schema(name, None, f"column '{name}' is given twice (as {seen[name]} and as "
                           f"{role})")
         seen[name] = role
+    # Attributes keep their names in to_frame and case_table, beside the standard columns: a
+    # clash would silently replace one column by the other.
+    taken = {"case", "activity", "timestamp", *(r for r in ("resource", "lifecycle") if r in roles)}
+    table = {"start", "end", "duration", "n_events", "variant", "repeats"}
+    for role, names, reserved in [("event attribute", event_attributes, taken),
+                                  ("case attribute", case_attributes, taken | table)]:
+        for name in names:
+            if name in reserved:
+                raise _schema(name, None, f"the {role} '{name}' has the name of a standard column "
+                              "of the log's tables "
+                              f"({', '.join(sorted(reserved))}); rename it first")
     if n == 0:
         raise _schema(case, None, "the frame has no rows: an event log needs at least one event")
     case_l = encode_labels(cols["case"], kind, case)
