@@ -1,0 +1,885 @@
+//! The simulation engine: plans drawn in parallel, then one discrete-event run over the
+//! resource pools.
+//!
+//! **Phase 0, arrivals.** Arrivals form a Poisson process whose rate `λ(t)` is constant or
+//! follows a weekly × daily pattern (piecewise constant per hour). With `Λ(t) = ∫ λ` the
+//! cumulative rate, the points `Λ⁻¹(Λ(start) + S_k)`, where `S_k` are the partial sums of
+//! independent Exp(1) draws, form a non-homogeneous Poisson process with rate `λ` (the
+//! time-change / inversion method; Çinlar 1975, *Introduction to Stochastic Processes*, and
+//! Lewis & Shedler 1979, Naval Research Logistics Quarterly 26(3), who give the thinning
+//! alternative [mem]). The Exp(1) draws are made in parallel; the prefix sum is sequential.
+//!
+//! **Phase 1, plans** (parallel over cases). Each case draws its segment, its attributes and
+//! its *plan*: the flow tree with every choice and loop resolved into a small DAG of activity
+//! instances (a parallel block forks, the next node joins), then the drift (for cases arriving
+//! at or after the change time) and at most one deviation are applied, and the service times
+//! and event attributes are drawn.
+//!
+//! **Phase 2, queues** (sequential). A discrete-event simulation (see Law, *Simulation Modeling
+//! and Analysis*, 5th ed. 2015, ch. 1 [mem]) with one binary heap of completion events. A node
+//! becomes ready when all its predecessors completed; it then takes a free member of its
+//! resource pool or joins the pool's first-in, first-out queue; a member that completes takes
+//! the head of the queue. Working hours delay a start to the next opening and pause work while
+//! closed. Ties in time are broken by insertion order, so the run is deterministic.
+//!
+//! **Determinism.** Case `k` draws from its own generator, Xoshiro256++ seeded with
+//! `seed ^ splitmix64(2k + stream)` (Blackman & Vigna 2021, ACM TOMS 47(4), for both
+//! generators [mem]), so results do not depend on the number of threads.
+
+use std::cmp::Reverse;
+use std::collections::{BinaryHeap, VecDeque};
+use std::sync::Arc;
+
+use rand::{Rng, SeedableRng};
+use rand_distr::{Distribution, Exp1};
+use rand_xoshiro::Xoshiro256PlusPlus;
+use rayon::prelude::*;
+
+use super::compile::{AttrModel, DevKind, DriftAt, Model, NodeModel};
+use super::spec::ProcessSpec;
+use crate::control::Control;
+use crate::error::{TmError, TmResult};
+use crate::log::{CaseAttrs, Column, LogInput, Values};
+
+/// Cases per parallel work unit.
+const CHUNK: usize = 4096;
+/// Heap operations between two cancellation checks.
+const CHECK_EVERY: u64 = 1 << 16;
+const NO_SERVER: u32 = u32::MAX;
+
+/// The hidden facts behind a simulated log, one entry per case in case-code order.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Truth {
+    /// Segment of each case: an index into `segment_names`.
+    pub segment: Vec<u32>,
+    /// Segment names, in spec order (`["all"]` when the spec has none).
+    pub segment_names: Vec<String>,
+    /// Deviation of each case: 0 = none, `k` = the `k`-th deviation of the spec
+    /// (`deviation_names[k]`).
+    pub deviation: Vec<u8>,
+    /// `deviation_names[0] == "none"`, then one name per spec deviation.
+    pub deviation_names: Vec<String>,
+    /// When the drift happens (ns since the epoch), if the spec has one.
+    pub change_time: Option<i64>,
+    /// Whether the case arrived at or after `change_time` (all false without a drift).
+    pub after_change: Vec<bool>,
+}
+
+/// A simulated event log and its ground truth.
+#[derive(Debug, Clone)]
+pub struct Simulation {
+    /// Columns ready for [`crate::EventLog::build`]: case, activity, time, resource (pool
+    /// member, null for activities without a pool), lifecycle ("start"/"complete", when some
+    /// activity writes start events), event attributes, and case attributes per case.
+    pub input: LogInput,
+    /// The ground truth.
+    pub truth: Truth,
+}
+
+fn splitmix64(x: u64) -> u64 {
+    let mut z = x.wrapping_add(0x9E37_79B9_7F4A_7C15);
+    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+    z ^ (z >> 31)
+}
+
+fn case_rng(seed: u64, case: usize, stream: u64) -> Xoshiro256PlusPlus {
+    Xoshiro256PlusPlus::seed_from_u64(seed ^ splitmix64(((case as u64) << 1) | stream))
+}
+
+fn limit(msg: impl Into<String>) -> TmError {
+    TmError::Limit {
+        message: msg.into(),
+    }
+}
+
+/// Plans of a run of consecutive cases (phase 1 output).
+#[derive(Default)]
+struct Chunk {
+    seg: Vec<u32>,
+    dev: Vec<u8>,
+    /// `n_attrs` values per case (category code / 0-1 / number).
+    vals: Vec<f64>,
+    /// Nodes per case.
+    n_nodes: Vec<u32>,
+    act: Vec<u32>,
+    dur: Vec<i64>,
+    npred: Vec<u32>,
+    n_succ: Vec<u32>,
+    /// Successors, as indices local to the case.
+    succ: Vec<u32>,
+    /// `n_ev` values per node, NaN where the attribute does not apply.
+    ev: Vec<f64>,
+}
+
+/// Builds the plan DAG of one case (reused across the cases of a chunk).
+struct Planner {
+    act: Vec<u32>,
+    alive: Vec<bool>,
+    edges: Vec<(u32, u32)>,
+}
+
+impl Planner {
+    fn new() -> Self {
+        Planner {
+            act: Vec::new(),
+            alive: Vec::new(),
+            edges: Vec::new(),
+        }
+    }
+
+    fn clear(&mut self) {
+        self.act.clear();
+        self.alive.clear();
+        self.edges.clear();
+    }
+
+    fn add(&mut self, a: u32, preds: &[u32]) -> u32 {
+        let id = self.act.len() as u32;
+        self.act.push(a);
+        self.alive.push(true);
+        for &p in preds {
+            self.edges.push((p, id));
+        }
+        id
+    }
+
+    #[allow(clippy::too_many_arguments)]
+    fn expand<R: Rng>(
+        &mut self,
+        n: &NodeModel,
+        mut preds: Vec<u32>,
+        rng: &mut R,
+        seg: u32,
+        vals: &[f64],
+        after: bool,
+    ) -> Vec<u32> {
+        match n {
+            NodeModel::Step(a) => {
+                let id = self.add(*a, &preds);
+                preds.clear();
+                preds.push(id);
+                preds
+            }
+            NodeModel::Seq(v) => {
+                for c in v {
+                    preds = self.expand(c, preds, rng, seg, vals, after);
+                }
+                preds
+            }
+            NodeModel::Par(v) => {
+                let mut exits = Vec::new();
+                for c in v {
+                    let e = self.expand(c, preds.clone(), rng, seg, vals, after);
+                    exits.extend_from_slice(&e);
+                }
+                exits.sort_unstable();
+                exits.dedup();
+                exits
+            }
+            NodeModel::Choice(bs) => {
+                let total: f64 = bs.iter().map(|b| b.weight(seg, vals, after)).sum();
+                let u: f64 = rng.random::<f64>() * total.max(1.0);
+                let mut acc = 0.0;
+                for b in bs {
+                    let w = b.weight(seg, vals, after);
+                    acc += w;
+                    if w > 0.0 && u < acc {
+                        return match &b.then {
+                            Some(t) => self.expand(t, preds, rng, seg, vals, after),
+                            None => preds,
+                        };
+                    }
+                }
+                preds
+            }
+            NodeModel::Loop { body, redo, p, max } => {
+                let p = p[seg as usize];
+                preds = self.expand(body, preds, rng, seg, vals, after);
+                let mut k = 0;
+                while k < *max && rng.random::<f64>() < p {
+                    if let Some(r) = redo {
+                        preds = self.expand(r, preds, rng, seg, vals, after);
+                    }
+                    preds = self.expand(body, preds, rng, seg, vals, after);
+                    k += 1;
+                }
+                preds
+            }
+        }
+    }
+
+    /// Drop every node of activity `a`, linking its predecessors to its successors.
+    fn remove_all(&mut self, a: u32) -> bool {
+        let mut any = false;
+        for x in 0..self.act.len() as u32 {
+            if !self.alive[x as usize] || self.act[x as usize] != a {
+                continue;
+            }
+            any = true;
+            self.alive[x as usize] = false;
+            let preds: Vec<u32> = self
+                .edges
+                .iter()
+                .filter(|e| e.1 == x)
+                .map(|e| e.0)
+                .collect();
+            let succs: Vec<u32> = self
+                .edges
+                .iter()
+                .filter(|e| e.0 == x)
+                .map(|e| e.1)
+                .collect();
+            self.edges.retain(|e| e.0 != x && e.1 != x);
+            for &p in &preds {
+                for &s in &succs {
+                    self.edges.push((p, s));
+                }
+            }
+        }
+        any
+    }
+
+    /// Insert a node of activity `b` right after the first node of activity `a`.
+    fn insert_after(&mut self, a: u32, b: u32) -> bool {
+        let Some(x) = (0..self.act.len()).find(|&i| self.alive[i] && self.act[i] == a) else {
+            return false;
+        };
+        let x = x as u32;
+        let y = self.add(b, &[]);
+        for e in &mut self.edges {
+            if e.0 == x {
+                e.0 = y;
+            }
+        }
+        self.edges.push((x, y));
+        true
+    }
+
+    /// Where a node of `a` is directly followed by a node of `b`, trade their activities.
+    fn swap(&mut self, a: u32, b: u32) -> bool {
+        let hit = self.edges.iter().find(|&&(x, y)| {
+            self.alive[x as usize]
+                && self.alive[y as usize]
+                && self.act[x as usize] == a
+                && self.act[y as usize] == b
+        });
+        match hit.copied() {
+            Some((x, y)) => {
+                self.act[x as usize] = b;
+                self.act[y as usize] = a;
+                true
+            }
+            None => false,
+        }
+    }
+
+    /// Write the live nodes in topological order into `out`; returns the node count.
+    fn finish(&mut self, out: &mut Chunk) -> usize {
+        let n = self.act.len();
+        let mut indeg = vec![0u32; n];
+        self.edges.sort_unstable();
+        self.edges.dedup();
+        for &(_, y) in &self.edges {
+            indeg[y as usize] += 1;
+        }
+        let npred = indeg.clone();
+        // Kahn's algorithm over the live nodes, smallest id first.
+        let mut order: Vec<u32> = Vec::with_capacity(n);
+        let mut queue: VecDeque<u32> = (0..n as u32)
+            .filter(|&i| self.alive[i as usize] && indeg[i as usize] == 0)
+            .collect();
+        let mut newid = vec![u32::MAX; n];
+        let edges = &self.edges;
+        while let Some(x) = queue.pop_front() {
+            newid[x as usize] = order.len() as u32;
+            order.push(x);
+            let lo = edges.partition_point(|e| e.0 < x);
+            for &(_, y) in edges[lo..].iter().take_while(|e| e.0 == x) {
+                indeg[y as usize] -= 1;
+                if indeg[y as usize] == 0 {
+                    queue.push_back(y);
+                }
+            }
+        }
+        for &x in &order {
+            out.act.push(self.act[x as usize]);
+            let lo = edges.partition_point(|e| e.0 < x);
+            let mut k = 0u32;
+            for &(_, y) in edges[lo..].iter().take_while(|e| e.0 == x) {
+                out.succ.push(newid[y as usize]);
+                k += 1;
+            }
+            out.n_succ.push(k);
+            out.npred.push(npred[x as usize]);
+        }
+        order.len()
+    }
+}
+
+fn plan_chunk(
+    m: &Model,
+    seed: u64,
+    lo: usize,
+    hi: usize,
+    arrivals: &[i64],
+    change: Option<i64>,
+) -> TmResult<Chunk> {
+    let mut out = Chunk::default();
+    let na = m.attrs.len();
+    let nev = m.ev_attrs.len();
+    let mut pl = Planner::new();
+    let mut vals = vec![0.0f64; na];
+    for k in lo..hi {
+        let mut rng = case_rng(seed, k, 1);
+        let u: f64 = rng.random();
+        let seg = m
+            .seg_cum
+            .iter()
+            .position(|&c| u < c)
+            .unwrap_or(m.seg_cum.len() - 1) as u32;
+        let s = seg as usize;
+        for (i, a) in m.attrs.iter().enumerate() {
+            vals[i] = match a {
+                AttrModel::Cat { cum, .. } => {
+                    let u: f64 = rng.random();
+                    let c = &cum[s];
+                    c.iter().position(|&x| u < x).unwrap_or(c.len() - 1) as f64
+                }
+                AttrModel::Num {
+                    per_seg, integer, ..
+                } => {
+                    let v = per_seg[s].sample(&mut rng);
+                    if *integer {
+                        v.round()
+                    } else {
+                        v
+                    }
+                }
+                AttrModel::Bool { p, .. } => f64::from(u8::from(rng.random::<f64>() < p[s])),
+            };
+        }
+        let after = change.is_some_and(|c| arrivals[k] >= c);
+        pl.clear();
+        let _ = pl.expand(&m.flow, Vec::new(), &mut rng, seg, &vals, after);
+        if after {
+            if let Some(d) = &m.drift {
+                for &a in &d.remove {
+                    pl.remove_all(a);
+                }
+                for &(a, b) in &d.add_after {
+                    pl.insert_after(a, b);
+                }
+            }
+        }
+        let mut dev = 0u8;
+        if !m.devs.is_empty() {
+            let u: f64 = rng.random();
+            if let Some(i) = m.dev_cum.iter().position(|&c| u < c) {
+                let applied = match m.devs[i] {
+                    DevKind::Skip(a) => pl.remove_all(a),
+                    DevKind::Swap(a, b) => pl.swap(a, b),
+                    DevKind::Repeat(a) => pl.insert_after(a, a),
+                };
+                if applied {
+                    dev = (i + 1) as u8;
+                }
+            }
+        }
+        let first = out.act.len();
+        let nn = pl.finish(&mut out);
+        if nn == 0 {
+            return Err(TmError::data(format!(
+                "case {}{} (code {k}) has no step left after the drift or a deviation removed steps; every case needs at least one event",
+                m.case_prefix,
+                k + 1
+            )));
+        }
+        for i in first..first + nn {
+            let act = &m.acts[out.act[i] as usize];
+            let mut x = match (&act.drift_dur, after) {
+                (Some(d), true) => d.sample(&mut rng),
+                _ => act.dur[s].sample(&mut rng),
+            };
+            if after {
+                x *= act.drift_factor;
+            }
+            let ns = (x.max(0.0) * m.unit_ns).round();
+            if ns >= 1e18 || ns.is_nan() {
+                return Err(limit(format!(
+                    "a service time of activity '{}' ({x} time units) is too long to represent in nanoseconds",
+                    act.name
+                )));
+            }
+            out.dur.push(ns as i64);
+            for e in &m.ev_attrs {
+                out.ev.push(match &e.per_act[out.act[i] as usize] {
+                    Some(d) => d.sample(&mut rng),
+                    None => f64::NAN,
+                });
+            }
+        }
+        debug_assert_eq!(out.ev.len(), out.act.len() * nev);
+        out.seg.push(seg);
+        out.dev.push(dev);
+        out.vals.extend_from_slice(&vals);
+        out.n_nodes.push(nn as u32);
+    }
+    Ok(out)
+}
+
+/// The discrete-event run over the resource pools (phase 2).
+struct Des<'a> {
+    m: &'a Model,
+    act: &'a [u32],
+    dur: &'a [i64],
+    succ_off: &'a [usize],
+    succ: &'a [u32],
+    npred: Vec<u32>,
+    start: Vec<i64>,
+    end: Vec<i64>,
+    server: Vec<u32>,
+    base: Vec<u32>,
+    free: Vec<Vec<u32>>,
+    queue: Vec<VecDeque<u32>>,
+    heap: BinaryHeap<Reverse<(i64, u64, u32)>>,
+    seq: u64,
+}
+
+impl Des<'_> {
+    fn push(&mut self, t: i64, node: u32) {
+        self.heap.push(Reverse((t, self.seq, node)));
+        self.seq += 1;
+    }
+
+    fn overflow() -> TmError {
+        limit("simulated times run past the year 2262 (the end of 64-bit nanosecond time); simulate fewer cases or make arrivals more frequent")
+    }
+
+    fn begin(&mut self, node: u32, pool: usize, member: u32, t: i64) -> TmResult<()> {
+        let d = self.dur[node as usize];
+        let (s, e) = match &self.m.pools[pool].calendar {
+            Some(c) => {
+                let s = c.next_open(t);
+                (s, c.finish(s, d))
+            }
+            None => (t, t.checked_add(d).ok_or_else(Self::overflow)?),
+        };
+        if e == i64::MAX {
+            return Err(Self::overflow());
+        }
+        self.start[node as usize] = s;
+        self.end[node as usize] = e;
+        self.server[node as usize] = self.base[pool] + member;
+        self.push(e, node);
+        Ok(())
+    }
+
+    fn ready(&mut self, node: u32, t: i64) -> TmResult<()> {
+        match self.m.acts[self.act[node as usize] as usize].pool {
+            None => {
+                let e = t
+                    .checked_add(self.dur[node as usize])
+                    .ok_or_else(Self::overflow)?;
+                self.start[node as usize] = t;
+                self.end[node as usize] = e;
+                self.push(e, node);
+            }
+            Some(p) => {
+                let p = p as usize;
+                match self.free[p].pop() {
+                    Some(member) => self.begin(node, p, member, t)?,
+                    None => self.queue[p].push_back(node),
+                }
+            }
+        }
+        Ok(())
+    }
+
+    fn complete(&mut self, node: u32, t: i64) -> TmResult<()> {
+        let srv = self.server[node as usize];
+        if srv != NO_SERVER {
+            if let Some(p) = self.m.acts[self.act[node as usize] as usize].pool {
+                let p = p as usize;
+                let member = srv - self.base[p];
+                match self.queue[p].pop_front() {
+                    Some(next) => self.begin(next, p, member, t)?,
+                    None => self.free[p].push(member),
+                }
+            }
+        }
+        for j in self.succ_off[node as usize]..self.succ_off[node as usize + 1] {
+            let s = self.succ[j];
+            self.npred[s as usize] -= 1;
+            if self.npred[s as usize] == 0 {
+                self.ready(s, t)?;
+            }
+        }
+        Ok(())
+    }
+}
+
+/// Simulate `n_cases` cases of `spec` with random seed `seed`.
+///
+/// The result does not depend on the number of rayon threads. Case `k` (0-based) gets case
+/// code `k` and the label `"{case_prefix}{k + 1}"`, zero-padded to at least 6 digits. Events
+/// are grouped by case, in time order within a case. `ctl` is polled between chunks of cases
+/// and every 65 536 queue events; progress counts each case twice (plan, then queues).
+///
+/// # Errors
+/// [`TmError::Parameter`] / [`TmError::Schema`] for a bad spec (with the JSON path),
+/// [`TmError::Parameter`] for `n_cases == 0`, [`TmError::Limit`] when times overflow or the
+/// plan has more than 2³² − 2 activity instances, [`TmError::Interrupted`] on cancellation.
+pub fn simulate(
+    spec: &ProcessSpec,
+    n_cases: usize,
+    seed: u64,
+    ctl: &Control,
+) -> TmResult<Simulation> {
+    let m = Model::compile(spec)?;
+    if n_cases == 0 {
+        return Err(TmError::param("n_cases", "n_cases must be at least 1"));
+    }
+    if n_cases >= u32::MAX as usize {
+        return Err(TmError::param(
+            "n_cases",
+            format!("n_cases must be below {}, got {n_cases}", u32::MAX),
+        ));
+    }
+    ctl.set_total(2 * n_cases as u64);
+    ctl.check()?;
+
+    // Phase 0: arrivals.
+    let gaps: Vec<f64> = (0..n_cases)
+        .into_par_iter()
+        .with_min_len(CHUNK)
+        .map(|k| {
+            let mut r = case_rng(seed, k, 0);
+            Exp1.sample(&mut r)
+        })
+        .collect();
+    let mut arrivals = Vec::with_capacity(n_cases);
+    let mut s = m.arrival.cum_at(m.start);
+    let mut prev = m.start;
+    for g in gaps {
+        s += g;
+        let t = m.arrival.time_at(s).ok_or_else(Des::overflow)?.max(prev);
+        arrivals.push(t);
+        prev = t;
+    }
+    let change = m.drift.as_ref().map(|d| match d.at {
+        DriftAt::Time(t) => t,
+        DriftAt::Fraction(f) => arrivals[((f * n_cases as f64) as usize).min(n_cases - 1)],
+    });
+
+    // Phase 1: plans, in parallel chunks.
+    let n_chunks = n_cases.div_ceil(CHUNK);
+    let chunks: Vec<Chunk> = (0..n_chunks)
+        .into_par_iter()
+        .map(|c| {
+            ctl.check()?;
+            let lo = c * CHUNK;
+            let hi = (lo + CHUNK).min(n_cases);
+            let out = plan_chunk(&m, seed, lo, hi, &arrivals, change);
+            ctl.advance((hi - lo) as u64);
+            out
+        })
+        .collect::<TmResult<Vec<_>>>()?;
+
+    let n_nodes: usize = chunks.iter().map(|c| c.act.len()).sum();
+    if n_nodes >= u32::MAX as usize {
+        return Err(limit(format!(
+            "the plans hold {n_nodes} activity instances, more than 2^32 - 2; simulate fewer cases"
+        )));
+    }
+    let na = m.attrs.len();
+    let nev = m.ev_attrs.len();
+    let mut seg = Vec::with_capacity(n_cases);
+    let mut dev = Vec::with_capacity(n_cases);
+    let mut vals = Vec::with_capacity(n_cases * na);
+    let mut case_off = Vec::with_capacity(n_cases + 1);
+    let mut act = Vec::with_capacity(n_nodes);
+    let mut dur = Vec::with_capacity(n_nodes);
+    let mut npred = Vec::with_capacity(n_nodes);
+    let mut succ_off = Vec::with_capacity(n_nodes + 1);
+    let mut succ = Vec::new();
+    let mut ev = Vec::with_capacity(n_nodes * nev);
+    case_off.push(0usize);
+    succ_off.push(0usize);
+    for ch in chunks {
+        let mut sp = 0usize;
+        let mut node = 0usize;
+        for &nn in &ch.n_nodes {
+            let case_base = act.len() as u32;
+            for i in node..node + nn as usize {
+                act.push(ch.act[i]);
+                dur.push(ch.dur[i]);
+                npred.push(ch.npred[i]);
+                let k = ch.n_succ[i] as usize;
+                for &y in &ch.succ[sp..sp + k] {
+                    succ.push(case_base + y);
+                }
+                sp += k;
+                succ_off.push(succ.len());
+            }
+            node += nn as usize;
+            case_off.push(act.len());
+        }
+        seg.extend_from_slice(&ch.seg);
+        dev.extend_from_slice(&ch.dev);
+        vals.extend_from_slice(&ch.vals);
+        ev.extend_from_slice(&ch.ev);
+    }
+
+    // Phase 2: queues.
+    let mut base = Vec::with_capacity(m.pools.len());
+    let mut acc = 0u32;
+    for p in &m.pools {
+        base.push(acc);
+        acc += p.capacity;
+    }
+    let mut des = Des {
+        m: &m,
+        act: &act,
+        dur: &dur,
+        succ_off: &succ_off,
+        succ: &succ,
+        npred,
+        start: vec![0; n_nodes],
+        end: vec![0; n_nodes],
+        server: vec![NO_SERVER; n_nodes],
+        base,
+        free: m
+            .pools
+            .iter()
+            .map(|p| (0..p.capacity).rev().collect())
+            .collect(),
+        queue: vec![VecDeque::new(); m.pools.len()],
+        heap: BinaryHeap::new(),
+        seq: 0,
+    };
+    let mut ci = 0usize;
+    let mut ops = 0u64;
+    let mut reported = 0usize;
+    loop {
+        ops += 1;
+        if ops % CHECK_EVERY == 0 {
+            ctl.check()?;
+            ctl.advance((ci - reported) as u64);
+            reported = ci;
+        }
+        let next_arr = if ci < n_cases { arrivals[ci] } else { i64::MAX };
+        match des.heap.peek() {
+            Some(&Reverse((t, _, node))) if t < next_arr || ci == n_cases => {
+                des.heap.pop();
+                des.complete(node, t)?;
+            }
+            _ if ci < n_cases => {
+                for node in case_off[ci]..case_off[ci + 1] {
+                    if des.npred[node] == 0 {
+                        des.ready(node as u32, next_arr)?;
+                    }
+                }
+                ci += 1;
+            }
+            _ => break,
+        }
+    }
+    ctl.advance((ci - reported) as u64);
+    let Des {
+        start, end, server, ..
+    } = des;
+
+    // Phase 3: rows, in parallel chunks of cases.
+    let lifecycle = m.acts.iter().any(|a| a.lifecycle);
+    let has_pools = !m.pools.is_empty();
+    struct Rows {
+        case: Vec<u32>,
+        act: Vec<u32>,
+        time: Vec<i64>,
+        res: Vec<u32>,
+        lc: Vec<u32>,
+        ev: Vec<Vec<f64>>,
+    }
+    let parts: Vec<Rows> = (0..n_chunks)
+        .into_par_iter()
+        .map(|c| {
+            let lo = c * CHUNK;
+            let hi = (lo + CHUNK).min(n_cases);
+            let cap = (case_off[hi] - case_off[lo]) * if lifecycle { 2 } else { 1 };
+            let mut r = Rows {
+                case: Vec::with_capacity(cap),
+                act: Vec::with_capacity(cap),
+                time: Vec::with_capacity(cap),
+                res: Vec::with_capacity(cap),
+                lc: Vec::with_capacity(cap),
+                ev: vec![Vec::with_capacity(cap); nev],
+            };
+            let mut evs: Vec<(i64, u32, u8)> = Vec::new();
+            for k in lo..hi {
+                evs.clear();
+                let b = case_off[k];
+                for i in b..case_off[k + 1] {
+                    let li = (i - b) as u32;
+                    if m.acts[act[i] as usize].lifecycle {
+                        evs.push((start[i], li, 0));
+                    }
+                    evs.push((end[i], li, 1));
+                }
+                evs.sort_unstable();
+                for &(t, li, phase) in &evs {
+                    let i = b + li as usize;
+                    r.case.push(k as u32);
+                    r.act.push(act[i]);
+                    r.time.push(t);
+                    r.res.push(server[i]);
+                    r.lc.push(u32::from(phase));
+                    for (j, col) in r.ev.iter_mut().enumerate() {
+                        col.push(if phase == 1 {
+                            ev[i * nev + j]
+                        } else {
+                            f64::NAN
+                        });
+                    }
+                }
+            }
+            r
+        })
+        .collect();
+    let n_rows: usize = parts.iter().map(|p| p.case.len()).sum();
+    let mut case = Vec::with_capacity(n_rows);
+    let mut activity = Vec::with_capacity(n_rows);
+    let mut time = Vec::with_capacity(n_rows);
+    let mut res = Vec::with_capacity(if has_pools { n_rows } else { 0 });
+    let mut lc = Vec::with_capacity(if lifecycle { n_rows } else { 0 });
+    let mut evc: Vec<Vec<f64>> = (0..nev).map(|_| Vec::with_capacity(n_rows)).collect();
+    for p in parts {
+        case.extend_from_slice(&p.case);
+        activity.extend_from_slice(&p.act);
+        time.extend_from_slice(&p.time);
+        if has_pools {
+            res.extend_from_slice(&p.res);
+        }
+        if lifecycle {
+            lc.extend_from_slice(&p.lc);
+        }
+        for (d, s) in evc.iter_mut().zip(&p.ev) {
+            d.extend_from_slice(s);
+        }
+    }
+    drop((act, dur, start, end, server, ev));
+
+    let resource = has_pools.then(|| {
+        let mut names = Vec::new();
+        for p in &m.pools {
+            for j in 1..=p.capacity {
+                names.push(format!("{}-{j}", p.name));
+            }
+        }
+        let valid: Vec<bool> = res.iter().map(|&s| s != NO_SERVER).collect();
+        let codes: Vec<u32> = res
+            .iter()
+            .map(|&s| if s == NO_SERVER { 0 } else { s })
+            .collect();
+        Column {
+            name: "resource".into(),
+            values: Values::Cat {
+                codes,
+                dict: Arc::new(names),
+            },
+            valid: Some(valid),
+        }
+        .normalised()
+    });
+    let lifecycle_col = lifecycle.then(|| {
+        Column::new(
+            "lifecycle",
+            Values::Cat {
+                codes: lc,
+                dict: Arc::new(vec!["start".into(), "complete".into()]),
+            },
+        )
+    });
+    let event_attrs: Vec<Column> = m
+        .ev_attrs
+        .iter()
+        .zip(evc)
+        .map(|(e, v)| {
+            let valid: Vec<bool> = v.iter().map(|x| !x.is_nan()).collect();
+            let v: Vec<f64> = v
+                .into_iter()
+                .map(|x| if x.is_nan() { 0.0 } else { x })
+                .collect();
+            Column {
+                name: e.name.clone(),
+                values: Values::F64(v),
+                valid: Some(valid),
+            }
+            .normalised()
+        })
+        .collect();
+    let case_attrs: Vec<Column> = m
+        .attrs
+        .iter()
+        .enumerate()
+        .map(|(j, a)| {
+            let col = (0..n_cases).map(|k| vals[k * na + j]);
+            match a {
+                AttrModel::Cat { name, values, .. } => Column::new(
+                    name.clone(),
+                    Values::Cat {
+                        codes: col.map(|v| v as u32).collect(),
+                        dict: Arc::new(values.clone()),
+                    },
+                ),
+                AttrModel::Num { name, integer, .. } => Column::new(
+                    name.clone(),
+                    if *integer {
+                        Values::I64(col.map(|v| v as i64).collect())
+                    } else {
+                        Values::F64(col.collect())
+                    },
+                ),
+                AttrModel::Bool { name, .. } => {
+                    Column::new(name.clone(), Values::Bool(col.map(|v| v != 0.0).collect()))
+                }
+            }
+        })
+        .collect();
+    let width = n_cases.to_string().len().max(6);
+    let case_names: Vec<String> = (0..n_cases)
+        .into_par_iter()
+        .with_min_len(CHUNK)
+        .map(|k| format!("{}{:0width$}", m.case_prefix, k + 1))
+        .collect();
+
+    let input = LogInput {
+        case,
+        case_names,
+        activity,
+        activity_names: m.acts.iter().map(|a| a.name.clone()).collect(),
+        time,
+        resource,
+        lifecycle: lifecycle_col,
+        event_attrs,
+        case_attrs: CaseAttrs::PerCase(case_attrs),
+        row: None,
+    };
+    let after_change = match change {
+        Some(c) => arrivals.iter().map(|&t| t >= c).collect(),
+        None => vec![false; n_cases],
+    };
+    let mut deviation_names = vec!["none".to_string()];
+    deviation_names.extend(m.dev_names.iter().cloned());
+    Ok(Simulation {
+        input,
+        truth: Truth {
+            segment: seg,
+            segment_names: m.seg_names.clone(),
+            deviation: dev,
+            deviation_names,
+            change_time: change,
+            after_change,
+        },
+    })
+}
