@@ -801,11 +801,25 @@ fn min_steps(n: &NodeModel) -> usize {
     match n {
         NodeModel::Step(_) => 1,
         NodeModel::Seq(v) | NodeModel::Par(v) => v.iter().map(min_steps).sum(),
-        NodeModel::Choice(bs) => bs
-            .iter()
-            .map(|b| b.then.as_ref().map_or(0, min_steps))
-            .min()
-            .unwrap_or(0),
+        NodeModel::Choice(bs) => {
+            // Some case may take no branch when, for a segment, the probabilities (ignoring
+            // attribute rules and conditions, which the run-time check covers) sum below 1.
+            let n_seg = bs.first().map_or(0, |b| b.by_seg.len());
+            let short = (0..n_seg).any(|s| {
+                bs.iter()
+                    .map(|b| b.by_seg[s].unwrap_or(b.base))
+                    .sum::<f64>()
+                    < 1.0 - 1e-9
+            });
+            if short {
+                0
+            } else {
+                bs.iter()
+                    .map(|b| b.then.as_ref().map_or(0, min_steps))
+                    .min()
+                    .unwrap_or(0)
+            }
+        }
         NodeModel::Loop { body, .. } => min_steps(body),
     }
 }

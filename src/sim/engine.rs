@@ -883,3 +883,515 @@ pub fn simulate(
         },
     })
 }
+
+#[cfg(test)]
+mod tests {
+    use std::collections::HashMap;
+    use std::time::Instant;
+
+    use super::*;
+    use crate::sim::{workshop_scenario, ProcessSpec};
+    use crate::EventLog;
+
+    /// One event as the tests see it: activity, time, lifecycle ("start"/"complete"), resource.
+    #[derive(Debug, Clone, PartialEq)]
+    struct Ev {
+        act: String,
+        t: i64,
+        lc: String,
+        res: Option<String>,
+    }
+
+    fn cases_of(input: &LogInput) -> Vec<Vec<Ev>> {
+        let mut out = vec![Vec::new(); input.case_names.len()];
+        for i in 0..input.case.len() {
+            let lc = input
+                .lifecycle
+                .as_ref()
+                .map_or("complete".to_string(), |c| c.values.text(i));
+            let res = input
+                .resource
+                .as_ref()
+                .filter(|c| c.is_valid(i))
+                .map(|c| c.values.text(i));
+            out[input.case[i] as usize].push(Ev {
+                act: input.activity_names[input.activity[i] as usize].clone(),
+                t: input.time[i],
+                lc,
+                res,
+            });
+        }
+        out
+    }
+
+    fn run(spec: &ProcessSpec, n: usize, seed: u64) -> Simulation {
+        simulate(spec, n, seed, &Control::new()).unwrap()
+    }
+
+    /// A small process using every node type; all pooled activities write start events.
+    const SMALL: &str = r#"{
+      "start": "2025-03-03T00:00:00Z",
+      "arrival": {"mean": 4},
+      "segments": [{"name": "a", "p": 0.5}, {"name": "b", "p": 0.3}, {"name": "c", "p": 0.2}],
+      "case_attributes": [
+        {"type": "numeric", "name": "size", "dist": {"dist": "uniform", "low": 0, "high": 10}},
+        {"type": "bool", "name": "vip", "p": 0.1, "by_segment": {"c": 0.9}}
+      ],
+      "resources": [{"name": "desk", "capacity": 2}, {"name": "lab", "capacity": 3,
+                     "hours": {"days": ["mon", "tue", "wed", "thu", "fri"], "from": 8, "to": 17}}],
+      "activities": [
+        {"name": "arrive", "duration": {"dist": "constant", "value": 0}},
+        {"name": "open", "duration": {"dist": "exponential", "mean": 3}, "resource": "desk", "lifecycle": true},
+        {"name": "x", "duration": {"dist": "lognormal", "mean": 20, "sd": 10}, "resource": "lab", "lifecycle": true},
+        {"name": "y", "duration": {"dist": "normal", "mean": 15, "sd": 5}, "resource": "lab", "lifecycle": true},
+        {"name": "z", "duration": {"dist": "triangular", "low": 1, "mode": 2, "high": 5}},
+        {"name": "fix", "duration": {"dist": "uniform", "low": 5, "high": 10}, "resource": "desk", "lifecycle": true},
+        {"name": "check", "duration": {"dist": "constant", "value": 2}, "resource": "desk", "lifecycle": true},
+        {"name": "close", "duration": {"dist": "constant", "value": 1}, "resource": "desk", "lifecycle": true},
+        {"name": "audit", "duration": {"dist": "constant", "value": 1}}
+      ],
+      "flow": {"sequence": [
+        {"step": "arrive"},
+        {"step": "open"},
+        {"parallel": [{"step": "x"}, {"sequence": [{"step": "y"}, {"step": "z"}]}]},
+        {"choice": [
+          {"label": "big", "p": 0.2, "by_segment": {"b": 0.6},
+           "by_attribute": [{"if": {"attr": "size", "ge": 9}, "p": 1.0}], "then": {"step": "fix"}},
+          {"label": "small", "p": 0.8, "by_segment": {"b": 0.4},
+           "by_attribute": [{"if": {"attr": "size", "ge": 9}, "p": 0.0}], "then": null}
+        ]},
+        {"loop": {"body": {"step": "check"}, "redo": {"step": "fix"}, "p_repeat": 0.2, "max": 2}},
+        {"step": "close"}
+      ]},
+      "deviations": [
+        {"kind": "skip", "step": "open", "rate": 0.05},
+        {"kind": "swap", "first": "check", "second": "close", "rate": 0.05},
+        {"kind": "repeat", "step": "open", "rate": 0.05}
+      ],
+      "drift": {"at": "2025-03-10T00:00:00Z", "choice_overrides": {"big": 0.0, "small": 1.0},
+                "add_step_after": [{"after": "close", "step": "audit"}]},
+      "event_attributes": [{"name": "cost", "dist": {"dist": "constant", "value": 1.5}}]
+    }"#;
+
+    fn small() -> ProcessSpec {
+        ProcessSpec::from_json(SMALL).unwrap()
+    }
+
+    fn same_input(a: &LogInput, b: &LogInput) -> bool {
+        a.case == b.case
+            && a.case_names == b.case_names
+            && a.activity == b.activity
+            && a.time == b.time
+            && a.resource == b.resource
+            && a.lifecycle == b.lifecycle
+            && a.event_attrs == b.event_attrs
+            && format!("{:?}", a.case_attrs) == format!("{:?}", b.case_attrs)
+    }
+
+    #[test]
+    fn deterministic_for_a_seed_and_any_thread_count() {
+        let spec = small();
+        let a = run(&spec, 9_000, 11);
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(1)
+            .build()
+            .unwrap();
+        let b = pool.install(|| run(&spec, 9_000, 11));
+        assert!(same_input(&a.input, &b.input));
+        assert_eq!(a.truth, b.truth);
+        let c = run(&spec, 9_000, 12);
+        assert!(!same_input(&a.input, &c.input));
+        assert_ne!(a.truth.segment, c.truth.segment);
+    }
+
+    #[test]
+    fn output_builds_an_event_log() {
+        let sim = run(&small(), 2_000, 3);
+        let n = sim.input.case.len();
+        let (log, rep) = EventLog::build(sim.input).unwrap();
+        assert_eq!(log.n_events(), n);
+        assert_eq!(rep.n_reordered, 0);
+        assert_eq!(log.case_name(1999), "R002000");
+        assert!(log.lifecycle().is_some());
+        assert!(log.case_attr("vip").is_some());
+        // "cost" is on complete events only.
+        let cost = log.event_attr("cost").unwrap();
+        let lc = log.lifecycle().unwrap();
+        for i in 0..log.n_events() {
+            assert_eq!(cost.is_valid(i), lc.values.text(i) == "complete");
+        }
+    }
+
+    /// From the output only: per pool, the members used, and that a member never serves two
+    /// activities at once (so at most `capacity` work in parallel).
+    #[test]
+    fn resource_capacity_is_never_exceeded() {
+        let spec = small();
+        let sim = run(&spec, 20_000, 5);
+        let mut intervals: HashMap<String, Vec<(i64, i64)>> = HashMap::new();
+        for evs in cases_of(&sim.input) {
+            // Pair each start with the next complete of the same activity and member.
+            let mut open: Vec<(String, Option<String>, i64)> = Vec::new();
+            for e in evs {
+                if e.lc == "start" {
+                    open.push((e.act.clone(), e.res.clone(), e.t));
+                } else if let Some(k) = open.iter().position(|o| o.0 == e.act && o.1 == e.res) {
+                    let (_, r, s) = open.remove(k);
+                    if let Some(r) = r {
+                        intervals.entry(r).or_default().push((s, e.t));
+                    }
+                }
+            }
+            assert!(open.is_empty());
+        }
+        let mut per_pool: HashMap<String, usize> = HashMap::new();
+        let mut sweep: HashMap<String, Vec<(i64, i32)>> = HashMap::new();
+        for (member, mut iv) in intervals {
+            iv.sort_unstable();
+            for w in iv.windows(2) {
+                assert!(w[0].1 <= w[1].0, "{member} overlaps: {:?} {:?}", w[0], w[1]);
+            }
+            let pool = member.rsplit_once('-').unwrap().0.to_string();
+            *per_pool.entry(pool.clone()).or_default() += 1;
+            let s = sweep.entry(pool).or_default();
+            for (a, b) in iv {
+                s.push((a, 1));
+                s.push((b, -1));
+            }
+        }
+        assert_eq!(per_pool["desk"], 2);
+        assert_eq!(per_pool["lab"], 3);
+        for (pool, mut s) in sweep {
+            s.sort_unstable(); // ends (-1) before starts (+1) at equal times
+            let mut busy = 0;
+            let mut most = 0;
+            for (_, d) in s {
+                busy += d;
+                most = most.max(busy);
+            }
+            let cap = if pool == "desk" { 2 } else { 3 };
+            assert!(most <= cap, "{pool}: {most} busy");
+            assert_eq!(most, cap, "{pool} never full: no queueing was exercised");
+        }
+    }
+
+    #[test]
+    fn events_follow_the_flow_order() {
+        let sim = run(&small(), 5_000, 8);
+        for (k, evs) in cases_of(&sim.input).iter().enumerate() {
+            let first =
+                |a: &str, lc: &str| evs.iter().find(|e| e.act == a && e.lc == lc).map(|e| e.t);
+            let last = |a: &str, lc: &str| {
+                evs.iter()
+                    .rev()
+                    .find(|e| e.act == a && e.lc == lc)
+                    .map(|e| e.t)
+            };
+            assert_eq!(evs[0].act, "arrive", "case {k}");
+            for w in evs.windows(2) {
+                assert!(w[0].t <= w[1].t, "case {k}: events out of time order");
+            }
+            // Sequence: open before both parallel branches; join: check after x and after z.
+            let x_end = last("x", "complete").unwrap();
+            let z_end = last("z", "complete").unwrap();
+            if let Some(o) = last("open", "complete") {
+                assert!(o <= first("x", "start").unwrap() && o <= first("y", "start").unwrap());
+            }
+            assert!(first("y", "complete").unwrap() <= z_end - 0);
+            let dev = sim.truth.deviation[k];
+            let check = first("check", "start").or(first("close", "start")).unwrap();
+            assert!(
+                x_end <= check && z_end <= check,
+                "case {k}: join before all branches ended"
+            );
+            if dev != 2 {
+                // Without the swap, close comes after every check.
+                assert!(last("check", "complete").unwrap() <= first("close", "start").unwrap());
+            }
+            // Each start precedes its complete.
+            for a in ["open", "x", "y", "fix", "check", "close"] {
+                if let (Some(s), Some(c)) = (first(a, "start"), first(a, "complete")) {
+                    assert!(s <= c);
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn segment_shares_match_the_spec() {
+        let spec = small();
+        let n = 20_000;
+        let sim = run(&spec, n, 21);
+        for (s, seg) in spec.segments.iter().enumerate() {
+            let count = sim
+                .truth
+                .segment
+                .iter()
+                .filter(|&&x| x as usize == s)
+                .count() as f64;
+            // Binomial(n, p): mean n p, sd sqrt(n p (1 - p)); allow 5 sd.
+            let sd = (n as f64 * seg.p * (1.0 - seg.p)).sqrt();
+            assert!(
+                (count - n as f64 * seg.p).abs() < 5.0 * sd,
+                "{}: {count}",
+                seg.name
+            );
+        }
+    }
+
+    #[test]
+    fn deviation_truth_matches_the_traces() {
+        let sim = run(&small(), 20_000, 4);
+        let names = &sim.truth.deviation_names;
+        assert_eq!(
+            names,
+            &["none", "skip open", "swap check/close", "repeat open"]
+        );
+        let mut seen = [0usize; 4];
+        for (k, evs) in cases_of(&sim.input).iter().enumerate() {
+            let d = sim.truth.deviation[k] as usize;
+            seen[d] += 1;
+            let count = |a: &str| {
+                evs.iter()
+                    .filter(|e| e.act == a && e.lc == "complete")
+                    .count()
+            };
+            let pos = |a: &str| evs.iter().position(|e| e.act == a && e.lc == "complete");
+            let rpos = |a: &str| evs.iter().rposition(|e| e.act == a && e.lc == "complete");
+            match d {
+                0 => {
+                    assert_eq!(count("open"), 1, "case {k}");
+                    assert!(rpos("check") < pos("close"), "case {k}");
+                }
+                1 => assert_eq!(count("open"), 0, "case {k}"),
+                2 => assert!(pos("close") < rpos("check"), "case {k}"),
+                3 => assert_eq!(count("open"), 2, "case {k}"),
+                _ => unreachable!(),
+            }
+        }
+        for (d, &c) in seen.iter().enumerate().skip(1) {
+            // Rate 5 % of 20 000 = 1000; sd ~ 31.
+            assert!((c as f64 - 1000.0).abs() < 5.0 * 30.8, "{}: {c}", names[d]);
+        }
+    }
+
+    #[test]
+    fn drift_truth_matches_arrivals_and_behaviour() {
+        let spec = small();
+        let sim = run(&spec, 6_000, 9);
+        let ct = sim.truth.change_time.unwrap();
+        assert_eq!(ct, crate::sim::spec::parse_iso("2025-03-10").unwrap());
+        let cases = cases_of(&sim.input);
+        let mut n_after = 0;
+        for (k, evs) in cases.iter().enumerate() {
+            // "arrive" takes no time, so its event is the arrival.
+            let arrival = evs[0].t;
+            assert_eq!(sim.truth.after_change[k], arrival >= ct, "case {k}");
+            let audit = evs.iter().any(|e| e.act == "audit");
+            let fix = evs.iter().any(|e| e.act == "fix");
+            if sim.truth.after_change[k] {
+                n_after += 1;
+                assert!(audit, "case {k}");
+                // After the change no case takes the "big" branch; fix only comes via the loop.
+                let checks = evs
+                    .iter()
+                    .filter(|e| e.act == "check" && e.lc == "complete")
+                    .count();
+                assert!(!fix || checks >= 2, "case {k}");
+            } else {
+                assert!(!audit, "case {k}");
+            }
+        }
+        assert!(n_after > 1000 && n_after < 5000, "{n_after}");
+    }
+
+    /// The M/M/2 queue against the Erlang C formula (Erlang 1917; e.g. Kleinrock 1975,
+    /// *Queueing Systems* vol. 1, eq. 3.40 [mem]): with arrival rate λ, service rate μ per
+    /// server, c servers, a = λ/μ, ρ = a/c, P(wait) = (aᶜ/c!)/(1-ρ) / (Σ_{k<c} aᵏ/k! +
+    /// (aᶜ/c!)/(1-ρ)) and the mean wait W_q = P(wait) / (cμ − λ). Here λ = 1/10, μ = 1/12, c = 2:
+    /// a = 1.2, ρ = 0.6, P(wait) = 1.8/4.0 = 0.45, W_q = 0.45/(1/15) = 6.75 minutes [calc].
+    #[test]
+    fn mm2_waiting_matches_erlang_c() {
+        let spec = ProcessSpec::from_json(
+            r#"{
+          "start": 0, "arrival": {"mean": 10},
+          "resources": [{"name": "server", "capacity": 2}],
+          "activities": [
+            {"name": "arrive", "duration": {"dist": "constant", "value": 0}},
+            {"name": "serve", "duration": {"dist": "exponential", "mean": 12}, "resource": "server", "lifecycle": true}
+          ],
+          "flow": {"sequence": [{"step": "arrive"}, {"step": "serve"}]}
+        }"#,
+        )
+        .unwrap();
+        let sim = run(&spec, 400_000, 2024);
+        let waits: Vec<f64> = cases_of(&sim.input)
+            .iter()
+            .map(|e| (e[1].t - e[0].t) as f64 / 60e9)
+            .collect();
+        let n = waits.len() as f64;
+        let mean = waits.iter().sum::<f64>() / n;
+        let p_wait = waits.iter().filter(|&&w| w > 0.0).count() as f64 / n;
+        // Standard error by batch means (waits are autocorrelated): 100 batches of 4 000.
+        let bm: Vec<f64> = waits
+            .chunks(4_000)
+            .map(|c| c.iter().sum::<f64>() / c.len() as f64)
+            .collect();
+        let bmean = bm.iter().sum::<f64>() / bm.len() as f64;
+        let var = bm.iter().map(|x| (x - bmean).powi(2)).sum::<f64>() / (bm.len() as f64 - 1.0);
+        let se = (var / bm.len() as f64).sqrt();
+        assert!((mean - 6.75).abs() < 5.0 * se, "mean wait {mean}, se {se}");
+        assert!((p_wait - 0.45).abs() < 0.01, "P(wait) {p_wait}");
+    }
+
+    #[test]
+    fn working_hours_hold_for_pooled_work() {
+        let sim = run(&small(), 3_000, 1);
+        for evs in cases_of(&sim.input) {
+            for e in &evs {
+                if e.lc == "start" && e.res.as_deref().is_some_and(|r| r.starts_with("lab")) {
+                    let rel =
+                        (e.t - super::super::compile::MONDAY_NS).rem_euclid(7 * 86_400_000_000_000);
+                    let day = rel / 86_400_000_000_000;
+                    let hour = (rel % 86_400_000_000_000) as f64 / 3.6e12;
+                    assert!(
+                        day < 5 && (8.0..17.0).contains(&hour),
+                        "lab start at day {day} hour {hour}"
+                    );
+                }
+            }
+        }
+    }
+
+    #[test]
+    fn cancellation_stops_the_run() {
+        let ctl = Control::new();
+        ctl.cancel();
+        assert_eq!(
+            simulate(&small(), 100, 1, &ctl).unwrap_err(),
+            TmError::Interrupted
+        );
+        let ctl = Control::new();
+        let _ = simulate(&small(), 100, 1, &ctl).unwrap();
+        assert_eq!(ctl.progress(), (200, 200));
+    }
+
+    #[test]
+    fn bad_arguments_are_errors() {
+        assert!(matches!(
+            simulate(&small(), 0, 1, &Control::new()),
+            Err(TmError::Parameter { .. })
+        ));
+    }
+
+    fn err_of(edit: impl Fn(&mut serde_json::Value)) -> String {
+        let mut v: serde_json::Value = serde_json::from_str(SMALL).unwrap();
+        edit(&mut v);
+        let e = ProcessSpec::from_json(&v.to_string()).unwrap_err();
+        assert!(
+            matches!(e, TmError::Parameter { .. } | TmError::Schema { .. }),
+            "{e:?}"
+        );
+        e.to_string()
+    }
+
+    #[test]
+    fn bad_specs_name_the_json_path() {
+        let m = err_of(|v| v["flow"]["sequence"][3]["choice"][1]["p"] = 1.5.into());
+        assert!(
+            m.starts_with("flow.sequence[3].choice[1].p must be in [0, 1]"),
+            "{m}"
+        );
+        let m =
+            err_of(|v| v["flow"]["sequence"][2]["parallel"][1]["sequence"][0]["step"] = "q".into());
+        assert!(
+            m.contains("flow.sequence[2].parallel[1].sequence[0].step: unknown activity \"q\""),
+            "{m}"
+        );
+        let m = err_of(|v| v["segments"][0]["p"] = 0.9.into());
+        assert!(m.contains("segments: the shares p must sum to 1"), "{m}");
+        let m = err_of(|v| v["activities"][2]["duration"]["sd"] = (-1.0).into());
+        assert!(m.contains("activities[2].duration.sd must be >= 0"), "{m}");
+        let m = err_of(|v| v["activities"][1]["resource"] = "nobody".into());
+        assert!(
+            m.contains("activities[1].resource: unknown resource pool \"nobody\""),
+            "{m}"
+        );
+        let m = err_of(|v| {
+            v["flow"]["sequence"][3]["choice"][0]["by_segment"] = serde_json::json!({"zz": 0.1})
+        });
+        assert!(
+            m.contains("flow.sequence[3].choice[0].by_segment.zz: unknown segment"),
+            "{m}"
+        );
+        let m = err_of(|v| {
+            v["flow"]["sequence"][3]["choice"][0]["by_attribute"][0]["if"]["attr"] = "vip".into()
+        });
+        assert!(
+            m.contains("flow.sequence[3].choice[0].by_attribute[0].if.ge cannot test"),
+            "{m}"
+        );
+        let m = err_of(|v| v["drift"]["choice_overrides"] = serde_json::json!({"huge": 0.5}));
+        assert!(
+            m.contains("drift.choice_overrides.huge: no choice branch has the label"),
+            "{m}"
+        );
+        let m = err_of(|v| v["resources"][1]["hours"]["days"][2] = "wensday".into());
+        assert!(
+            m.contains("resources[1].hours.days[2] must be one of"),
+            "{m}"
+        );
+        let m = err_of(|v| v["deviations"][0]["rate"] = 2.into());
+        assert!(m.contains("deviations[0].rate must be in [0, 1]"), "{m}");
+        let m = err_of(|v| v["start"] = "next tuesday".into());
+        assert!(m.contains("start must be an ISO 8601 date-time"), "{m}");
+        let m = err_of(|v| {
+            v["flow"] = serde_json::json!({"choice": [{"p": 0.5, "then": {"step": "z"}}]});
+            v.as_object_mut().unwrap().remove("drift");
+        });
+        assert!(
+            m.contains("flow: a case can pass through the flow without any step"),
+            "{m}"
+        );
+        // Structural errors: the path comes from the position serde reports.
+        let m = err_of(|v| v["flow"]["sequence"][4]["loop"]["max"] = "many".into());
+        assert!(
+            m.contains("flow.sequence[4].loop") && m.contains("invalid type"),
+            "{m}"
+        );
+        let m = err_of(|v| v["activities"][0]["colour"] = "red".into());
+        assert!(m.contains("activities[0]") && m.contains("colour"), "{m}");
+    }
+
+    #[test]
+    fn spec_round_trips_through_json() {
+        let s = small();
+        let back = ProcessSpec::from_json(&s.to_json().unwrap()).unwrap();
+        assert_eq!(s, back);
+        // Same spec, same simulation.
+        assert_eq!(run(&s, 500, 1).truth, run(&back, 500, 1).truth);
+    }
+
+    /// Speed: `cargo test --release -- --ignored --nocapture sim_speed`.
+    #[test]
+    #[ignore]
+    fn sim_speed_one_million_cases() {
+        let spec = workshop_scenario();
+        let t0 = Instant::now();
+        let sim = simulate(&spec, 1_000_000, 1, &Control::new()).unwrap();
+        let dt = t0.elapsed().as_secs_f64();
+        let n = sim.input.case.len();
+        println!(
+            "simulated 1 000 000 cases, {n} events in {dt:.2} s ({:.1} M events/s, {} threads)",
+            n as f64 / dt / 1e6,
+            rayon::current_num_threads()
+        );
+        let t1 = Instant::now();
+        let (log, _) = EventLog::build(sim.input).unwrap();
+        println!(
+            "EventLog::build: {:.2} s, {} cases",
+            t1.elapsed().as_secs_f64(),
+            log.n_cases()
+        );
+    }
+}
