@@ -4,6 +4,7 @@
 //! [`python`](crate) (`src/python/`). Modules:
 //!
 //! * [`log`]: the event log, its derived views and selections;
+//! * [`sim`]: a process simulator that writes event logs with their ground truth;
 //! * [`control`]: cancellation and progress for long kernels;
 //! * [`error`]: the error type shared by all kernels.
 
@@ -12,6 +13,7 @@
 pub mod control;
 pub mod error;
 pub mod log;
+pub mod sim;
 
 #[cfg(feature = "python")]
 mod python;
