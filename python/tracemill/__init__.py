@@ -26,6 +26,7 @@ from .exceptions import (
     TracemillWarning,
 )
 from .log import EventLog
+from .simulation import Truth, simulate, workshop, workshop_spec
 
 __version__: str = _core.__version__
 
@@ -43,5 +44,9 @@ __all__ = [
     "TracemillError",
     "TracemillIOError",
     "TracemillWarning",
+    "Truth",
     "__version__",
+    "simulate",
+    "workshop",
+    "workshop_spec",
 ]

@@ -5,6 +5,7 @@ mod convert;
 mod errors;
 mod log;
 mod run;
+mod sim;
 
 use pyo3::prelude::*;
 
@@ -39,6 +40,9 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(log::build_log, m)?)?;
     m.add_function(wrap_pyfunction!(convert::factorize_utf8, m)?)?;
     m.add_function(wrap_pyfunction!(convert::factorize_i64, m)?)?;
+    m.add_function(wrap_pyfunction!(sim::simulate, m)?)?;
+    m.add_function(wrap_pyfunction!(sim::workshop_json, m)?)?;
+    m.add_function(wrap_pyfunction!(sim::check_spec, m)?)?;
     m.add_function(wrap_pyfunction!(_panic_for_test, m)?)?;
     m.add_function(wrap_pyfunction!(_sleep_for_test, m)?)?;
     Ok(())
