@@ -7,6 +7,7 @@ workshop: cases are repair orders, activities are workshop steps.
 
 from __future__ import annotations
 
+import functools
 import os
 import warnings
 from dataclasses import dataclass
@@ -74,6 +75,16 @@ SHAPES = [
 
 
 def random_event_frame(shape: Shape) -> pd.DataFrame:
+    """A fresh copy of :func:`make_event_frame` (cached: the same shape gives the same frame)."""
+    return _cached_frame(shape).copy()
+
+
+@functools.cache
+def _cached_frame(shape: Shape) -> pd.DataFrame:
+    return make_event_frame(shape)
+
+
+def make_event_frame(shape: Shape) -> pd.DataFrame:
     """A pandas frame with columns case, activity, timestamp (datetime64[ns], naive), resource,
     cost (float), parts (int), warranty (bool; a case attribute) and bike (str; a case
     attribute)."""
@@ -134,6 +145,17 @@ def event_frame(shape: Shape) -> pd.DataFrame:
     return random_event_frame(shape)
 
 
+@functools.cache
+def _cached_log(shape: Shape) -> tm.EventLog:
+    return build(_cached_frame(shape))
+
+
+@pytest.fixture
+def event_log(shape: Shape) -> tm.EventLog:
+    """The log of :func:`event_frame` (built once per shape; logs are immutable)."""
+    return _cached_log(shape)
+
+
 SPEC = {"case": "case", "activity": "activity", "timestamp": "timestamp"}
 
 
@@ -170,3 +192,32 @@ def to_ns(values: Any) -> np.ndarray:
     elif s.dtype.kind == "m":
         s = s.astype("timedelta64[ns]")
     return s.to_numpy().view(np.int64)
+
+
+def values_of(frame: Any) -> dict[str, list[object]]:
+    """Column values of a pandas or polars frame as Python lists: any kind of null (None, NaN,
+    NA, NaT) as None, datetimes as int ns UTC."""
+    out: dict[str, list[object]] = {}
+    if type(frame).__module__.split(".")[0] == "polars":
+        import polars as pl
+
+        for c in frame.columns:
+            s = frame[c]
+            nulls = s.is_null().to_list()
+            if isinstance(s.dtype, pl.Datetime):
+                vals = to_ns(s).tolist()
+            elif s.dtype.is_float():
+                nulls = (s.is_null() | s.is_nan()).to_list()
+                vals = s.to_list()
+            else:
+                vals = s.to_list()
+            out[c] = [None if m else v for v, m in zip(vals, nulls, strict=True)]
+        return out
+    for c in frame.columns:
+        s = frame[c]
+        if s.dtype.kind in "Mm" or isinstance(s.dtype, pd.DatetimeTZDtype):
+            vals = to_ns(s).tolist()
+        else:
+            vals = s.tolist()
+        out[str(c)] = [None if m else v for v, m in zip(vals, s.isna().tolist(), strict=True)]
+    return out

@@ -17,7 +17,7 @@ import polars as pl
 import pyarrow as pa
 import pytest
 import tracemill as tm
-from conftest import SHAPES, build, random_event_frame, to_ns
+from conftest import SHAPES, build, random_event_frame, to_ns, values_of
 
 SHAPES_BY_NAME = {s.name: s for s in SHAPES}
 
@@ -33,19 +33,6 @@ def assert_same_log(a: tm.EventLog, b: tm.EventLog) -> None:
     assert a.case_ids.tolist() == b.case_ids.tolist()
     assert a.activities == b.activities
     pd.testing.assert_frame_equal(a.to_frame(), b.to_frame())
-
-
-def values_of(frame: pd.DataFrame) -> dict[str, list[object]]:
-    """Column values as Python lists, any kind of null as None, datetimes as int ns."""
-    out = {}
-    for c in frame.columns:
-        s = frame[c]
-        if s.dtype.kind in "Mm" or isinstance(s.dtype, pd.DatetimeTZDtype):
-            vals = [None if m else v for v, m in zip(to_ns(s).tolist(), s.isna(), strict=True)]
-        else:
-            vals = [None if m else v for v, m in zip(s.tolist(), s.isna(), strict=True)]
-        out[str(c)] = vals
-    return out
 
 
 def three_kinds(frame: pd.DataFrame) -> dict[str, object]:

@@ -76,8 +76,8 @@ def variants_polars(frame: pd.DataFrame) -> list[tuple[tuple[str, ...], int]]:
 # --------------------------------------------------------------------------- tests
 
 
-def test_case_order_is_first_appearance(event_frame: pd.DataFrame) -> None:
-    log = build(event_frame)
+def test_case_order_is_first_appearance(event_frame: pd.DataFrame, event_log) -> None:
+    log = event_log
     # pandas: Series.unique keeps order of appearance
     assert log.case_ids.tolist() == event_frame["case"].unique().tolist()
     # polars: Series.unique(maintain_order=True)
@@ -85,8 +85,8 @@ def test_case_order_is_first_appearance(event_frame: pd.DataFrame) -> None:
         maintain_order=True).to_list()
 
 
-def test_events_in_log_order(event_frame: pd.DataFrame) -> None:
-    log = build(event_frame)
+def test_events_in_log_order(event_frame: pd.DataFrame, event_log) -> None:
+    log = event_log
     arr = log.arrays()
     ref = pandas_sorted(event_frame)  # pandas sort_values by (first row of case, time, row)
     assert arr["row"].tolist() == ref["_row"].tolist()
@@ -101,8 +101,8 @@ def test_events_in_log_order(event_frame: pd.DataFrame) -> None:
     assert np.array_equal(np.diff(arr["offsets"]), np.bincount(arr["case"]))
 
 
-def test_variants(event_frame: pd.DataFrame) -> None:
-    log = build(event_frame)
+def test_variants(event_frame: pd.DataFrame, event_log) -> None:
+    log = event_log
     v = log.variants()
     got = [(tuple(a), int(c)) for a, c in zip(v["activities"], v["count"], strict=True)]
     assert got == variants_pandas(event_frame)  # pandas groupby of per-case tuples
@@ -120,8 +120,8 @@ def test_variants(event_frame: pd.DataFrame) -> None:
             [rank[s] == k for s in seq])].tolist()
 
 
-def test_case_table(event_frame: pd.DataFrame) -> None:
-    log = build(event_frame)
+def test_case_table(event_frame: pd.DataFrame, event_log) -> None:
+    log = event_log
     ct = log.case_table()
     # pandas: groupby(case, sort=False) keeps first-appearance order
     g = event_frame.assign(_t=event_frame["timestamp"].dt.as_unit("ns").astype("int64")).groupby(
@@ -158,8 +158,8 @@ def _df_from_log(log) -> dict[tuple[str, str], tuple[int, int, int, int, int]]:
     }
 
 
-def test_directly_follows_pandas(event_frame: pd.DataFrame) -> None:
-    log = build(event_frame)
+def test_directly_follows_pandas(event_frame: pd.DataFrame, event_log) -> None:
+    log = event_log
     df = pandas_sorted(event_frame).dropna(subset=["_prev"])
     df = df.assign(_gap=df["_gap"].astype("int64"))
     g = df.groupby(["_prev", "activity"])
@@ -181,8 +181,8 @@ def test_directly_follows_pandas(event_frame: pd.DataFrame) -> None:
         assert abs(got[k][2] - r["mean"]) <= 1.0
 
 
-def test_directly_follows_polars(event_frame: pd.DataFrame) -> None:
-    log = build(event_frame)
+def test_directly_follows_polars(event_frame: pd.DataFrame, event_log) -> None:
+    log = event_log
     df = polars_sorted(event_frame).filter(pl.col("_prev").is_not_null())
     agg = df.group_by(["_prev", "activity"]).agg(
         count=pl.len(),
@@ -225,8 +225,8 @@ def test_directly_follows_hand_example() -> None:
     assert d.loc[("b", "a"), "count"] == 1
 
 
-def test_activity_stats_pandas(event_frame: pd.DataFrame) -> None:
-    log = build(event_frame)
+def test_activity_stats_pandas(event_frame: pd.DataFrame, event_log) -> None:
+    log = event_log
     st = log.activity_stats().set_index("activity")
     df = pandas_sorted(event_frame)
     firsts = df.groupby("_first", sort=True)["activity"].first()
@@ -257,8 +257,8 @@ def test_activity_stats_pandas(event_frame: pd.DataFrame) -> None:
     assert st["service_mean"].isna().all()
 
 
-def test_activity_stats_polars(event_frame: pd.DataFrame) -> None:
-    log = build(event_frame)
+def test_activity_stats_polars(event_frame: pd.DataFrame, event_log) -> None:
+    log = event_log
     st = log.activity_stats("polars")
     df = polars_sorted(event_frame)
     per_case = df.group_by("_first").agg(first=pl.col("activity").first(),

@@ -235,8 +235,12 @@ class EventLog:
     def __getstate__(self) -> dict[str, Any]:
         from . import __version__
 
+        # The frame is in log order; the activity dictionary (its order defines the activity
+        # codes and may hold activities that a selected log lacks) and the input row of each
+        # event are kept as well, so that the log comes back identical.
         return {"version": __version__, "frame": self.to_frame("pandas"),
-                "spec": self._spec()}
+                "spec": self._spec(), "activities": self.activities,
+                "row": self._h.core_arrays()[4]}
 
     def __setstate__(self, state: dict[str, Any]) -> None:
         from . import __version__
@@ -244,14 +248,19 @@ class EventLog:
         if state.get("version") != __version__:
             warnings.warn(f"unpickling an EventLog saved by tracemill {state.get('version')} "
                           f"with {__version__}", DataQualityWarning, stacklevel=2)
-        spec = state["spec"]
-        import pandas as pd
-
-        frame = state["frame"]
-        with warnings.catch_warnings():
-            warnings.simplefilter("ignore", DataQualityWarning)
-            other = EventLog.from_frame(frame, **spec)
-        del pd
+        spec = {"resource": None, "lifecycle": None, "case_attributes": [],
+                "event_attributes": [], "timestamp_format": None, **state["spec"]}
+        prep = prepare(state["frame"], **spec)
+        names = state.get("activities")
+        if names is not None:
+            pos = {a: i for i, a in enumerate(names)}
+            lut = np.array([pos[a] for a in prep.kwargs["activity_names"]], dtype=np.uint32)
+            prep.kwargs["activity"] = lut[prep.kwargs["activity"]]
+            prep.kwargs["activity_names"] = list(names)
+        if state.get("row") is not None:
+            prep.kwargs["row"] = np.ascontiguousarray(state["row"], dtype=np.uint64)
+        handle, _n_dup, _n_reordered = _core.build_log(**prep.kwargs)
+        other = EventLog(handle, prep.case_originals, prep.time_zone, prep.column_tz)
         for k in self.__slots__:
             object.__setattr__(self, k, getattr(other, k))
 

@@ -133,10 +133,13 @@ impl EventLog {
             ));
         }
         let v = self.variants();
-        let need = (share * self.n_cases() as f64).ceil() as u64;
+        // Compare the covered fraction (an exactly rounded quotient) with `share` rather than
+        // the count with `ceil(share * n)`: 0.28 * 25 is 7.000000000000001 in f64, which would
+        // ask for 8 cases where 7 of 25 already make 28 %.
+        let n = self.n_cases() as f64;
         let mut keep = 0usize;
         let mut covered = 0u64;
-        while covered < need && keep < v.len() {
+        while (covered as f64) / n < share && keep < v.len() {
             covered += v.counts[keep];
             keep += 1;
         }
@@ -262,6 +265,11 @@ mod tests {
             vec![true, false, false, true]
         );
         assert_eq!(log.top_variants_mask(1.0).unwrap(), vec![true; 4]);
+        // 0.75 of 4 cases: exactly 3 cases, the first two variants.
+        assert_eq!(
+            log.top_variants_mask(0.75).unwrap(),
+            vec![true, true, false, true]
+        );
         assert!(log.top_variants_mask(0.0).is_err());
         assert_eq!(log.length_mask(3, 10), vec![false, false, true, false]);
         let s1 = log.sample_cases(2, 7).unwrap();
