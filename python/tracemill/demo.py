@@ -28,17 +28,25 @@ def _table(rows: list[list[str]], header: list[str]) -> str:
     return "\n".join("  " + x for x in out)
 
 
+def _clip(text: str, width: int = 110) -> str:
+    return text if len(text) <= width else text[: width - 3] + "..."
+
+
 def summarise(log: EventLog, top: int = 5) -> str:
     """A readable summary of a log: size, top variants, durations, busiest transitions, and
     where waiting time piles up."""
     parts: list[str] = []
+    full = log
+    if log.handle.lifecycle() is not None:
+        # One event per activity instance for variants and transitions; waits use all events.
+        log = log.with_lifecycle("complete")
     ct = log.case_table()
     parts.append(
         f"{log.n_cases:,} cases, {log.n_events:,} events, {len(log.activities)} activities, "
         f"from {ct['start'].min():%Y-%m-%d} to {ct['end'].max():%Y-%m-%d}"
     )
     v = log.variants()
-    rows = [[f"{r.count:,}", f"{r.share:.1%}", " > ".join(r.activities)]
+    rows = [[f"{r.count:,}", f"{r.share:.1%}", _clip(" > ".join(r.activities))]
             for r in v.head(top).itertuples()]
     parts.append(f"\nTop variants ({len(v):,} distinct):\n" + _table(rows, ["cases", "share",
                                                                            "activities"]))
@@ -51,12 +59,12 @@ def summarise(log: EventLog, top: int = 5) -> str:
              _hours(r.median_gap.value), _hours(r.p90_gap.value)] for r in df.itertuples()]
     parts.append("\nBusiest transitions:\n" + _table(rows, ["transition", "count", "median gap",
                                                            "p90 gap"]))
-    st = log.activity_stats()
+    st = full.activity_stats()
     st = st[st["wait_total"].notna()].sort_values("wait_total", ascending=False).head(top)
     total = float(st["wait_total"].astype("int64").sum()) or 1.0
     rows = [[r.activity, _hours(r.wait_median.value), _hours(r.wait_mean.value),
              f"{r.wait_total.value / total:.0%}"] for r in st.itertuples()]
-    parts.append("\nWhere waiting time piles up (wait before the activity):\n" + _table(
+    parts.append("\nWhere waiting time piles up (wait before the activity starts):\n" + _table(
         rows, ["activity", "median wait", "mean wait", "share of top waits"]))
     return "\n".join(parts)
 

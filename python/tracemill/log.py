@@ -424,6 +424,34 @@ class EventLog:
                                     count=len(arr)))
         return self._derive(self._h.select_cases(idx))
 
+    def keep_events(self, mask: Any) -> EventLog:
+        """A new log with the events where ``mask`` (one entry per event, in log order as in
+        :meth:`to_frame`) is true. Cases left without events are dropped, with a
+        :class:`DataQualityWarning` saying how many."""
+        m = np.asarray(mask)
+        if m.dtype != bool or m.shape != (self.n_events,):
+            raise _param("mask", f"the event mask must be boolean with shape ({self.n_events},); "
+                         f"got {m.dtype} {m.shape}")
+        handle, dropped = self._h.select_events(np.ascontiguousarray(m))
+        if dropped:
+            warnings.warn(f"{dropped} cases had no event left and were dropped",
+                          DataQualityWarning, stacklevel=2)
+        return self._derive(handle)
+
+    def with_lifecycle(self, *transitions: str) -> EventLog:
+        """Only the events whose lifecycle transition is one of ``transitions`` (e.g.
+        ``"complete"``), so that variants and directly-follows relations count each activity
+        instance once. Events with a null transition are dropped too."""
+        t = self._h.lifecycle()
+        if t is None:
+            raise SchemaError("the log has no lifecycle column")
+        _name, _kind, codes, valid, names = t
+        wanted = np.isin(np.asarray(names, dtype=object), list(transitions))
+        keep = wanted[codes] if len(names) else np.zeros(len(codes), dtype=bool)
+        if valid is not None:
+            keep &= valid
+        return self.keep_events(keep)
+
     def where(self, predicate: Callable[[Any], Any]) -> EventLog:
         """Cases for which ``predicate(case_table)`` is true (a boolean Series or array).
 

@@ -90,6 +90,53 @@ impl EventLog {
         })
     }
 
+    /// A new log with the events where `mask` (one entry per event) is true. Cases left without
+    /// events are dropped; their number is returned beside the log.
+    pub fn select_events(&self, mask: &[bool]) -> TmResult<(EventLog, usize)> {
+        if mask.len() != self.n_events() {
+            return Err(TmError::param(
+                "mask",
+                format!(
+                    "the event mask has {} entries but the log has {} events",
+                    mask.len(),
+                    self.n_events()
+                ),
+            ));
+        }
+        let mut offsets = vec![0usize];
+        let mut cases = Vec::new();
+        let mut idx = Vec::with_capacity(mask.iter().filter(|&&b| b).count());
+        for c in 0..self.n_cases() {
+            let before = idx.len();
+            idx.extend((self.offsets[c]..self.offsets[c + 1]).filter(|&i| mask[i]));
+            if idx.len() > before {
+                cases.push(c);
+                offsets.push(idx.len());
+            }
+        }
+        if idx.is_empty() {
+            return Err(TmError::data("the selection is empty: no event matched"));
+        }
+        let dropped = self.n_cases() - cases.len();
+        Ok((
+            EventLog {
+                activity_names: Arc::clone(&self.activity_names),
+                case_names: Arc::clone(&self.case_names),
+                case_key: cases.iter().map(|&c| self.case_key[c]).collect(),
+                activity: idx.par_iter().map(|&i| self.activity[i]).collect(),
+                time: idx.par_iter().map(|&i| self.time[i]).collect(),
+                row: idx.par_iter().map(|&i| self.row[i]).collect(),
+                resource: self.resource.as_ref().map(|c| c.gather(&idx)),
+                lifecycle: self.lifecycle.as_ref().map(|c| c.gather(&idx)),
+                event_attrs: self.event_attrs.iter().map(|c| c.gather(&idx)).collect(),
+                case_attrs: self.case_attrs.iter().map(|c| c.gather(&cases)).collect(),
+                offsets,
+                cache: Cache::default(),
+            },
+            dropped,
+        ))
+    }
+
     /// A new log with the cases where `mask` is true.
     pub fn select_mask(&self, mask: &[bool]) -> TmResult<EventLog> {
         if mask.len() != self.n_cases() {
@@ -232,6 +279,30 @@ mod tests {
         assert!(Arc::ptr_eq(&sub.activity_names, &log.activity_names));
         assert!(log.select_cases(&[9]).is_err());
         assert!(log.select_cases(&[]).is_err());
+    }
+
+    #[test]
+    fn select_events_drops_emptied_cases() {
+        let log = demo();
+        let mask: Vec<bool> = log
+            .activities()
+            .iter()
+            .map(|&a| log.activity_names()[a as usize] != "a")
+            .collect();
+        let (sub, dropped) = log.select_events(&mask).unwrap();
+        assert_eq!(dropped, 0);
+        assert_eq!(sub.n_events(), 5);
+        assert_eq!(sub.trace_times(2), &[40, 41]);
+        let only_c: Vec<bool> = log
+            .activities()
+            .iter()
+            .map(|&a| log.activity_names()[a as usize] == "c")
+            .collect();
+        let (sub, dropped) = log.select_events(&only_c).unwrap();
+        assert_eq!((sub.n_cases(), dropped), (1, 3));
+        assert_eq!(sub.case_name(0), "2");
+        assert!(log.select_events(&[false; 9]).is_err());
+        assert!(log.select_events(&[true]).is_err());
     }
 
     #[test]

@@ -287,6 +287,14 @@ impl PyLog {
         Ok(PyLog::new(run(py, None, move |_| l.select_cases(&idx))?))
     }
 
+    /// Keep the events where `mask` is true; returns `(handle, n_cases_dropped)`.
+    fn select_events(&self, py: Python<'_>, mask: Bound<'_, PyAny>) -> PyResult<(PyLog, usize)> {
+        let m: Vec<bool> = vec_of(&mask, "mask")?;
+        let l = Arc::clone(&self.inner);
+        let (log, dropped) = run(py, None, move |_| l.select_events(&m))?;
+        Ok((PyLog::new(log), dropped))
+    }
+
     fn select_mask(&self, py: Python<'_>, mask: Bound<'_, PyAny>) -> PyResult<PyLog> {
         let m: Vec<bool> = vec_of(&mask, "mask")?;
         let l = Arc::clone(&self.inner);
