@@ -413,3 +413,43 @@ def test_event_attribute_dtypes_in_polars_output() -> None:
     src = typed_frame()["note"]
     assert notes.count(None) == src.isna().sum()
     assert sorted(x for x in notes if x is not None) == sorted(src.dropna())
+
+
+# --------------------------------------------------------------------------- fixed offsets
+
+OFFSETS = [dt.timezone(dt.timedelta(hours=1)), dt.timezone(dt.timedelta(hours=-3, minutes=-30)),
+           dt.timezone(dt.timedelta(hours=5, minutes=45))]
+
+
+@pytest.mark.parametrize("tz", OFFSETS, ids=str)
+def test_fixed_offset_zones(tz: dt.timezone) -> None:
+    # pandas.to_datetime gives such columns for text with one constant offset.
+    frame = random_event_frame(SHAPES_BY_NAME["equal_times"])
+    ref = build(frame)
+    aware = frame.assign(timestamp=frame["timestamp"].dt.tz_localize("UTC").dt.tz_convert(tz))
+    for f in (aware, pa.Table.from_pandas(aware, preserve_index=False)):
+        log = build(f)
+        assert np.array_equal(log.arrays()["time"], ref.arrays()["time"])
+        out = log.to_frame()["timestamp"]
+        # the same instants and the same offset (stdlib datetime.utcoffset)
+        assert to_ns(out).tolist() == ref.arrays()["time"].tolist()
+        assert {t.utcoffset() for t in out} == {tz.utcoffset(None)}
+        arrow = log.to_frame("arrow")["timestamp"]
+        assert to_ns(arrow).tolist() == ref.arrays()["time"].tolist()
+        whole_hours = tz.utcoffset(None) % dt.timedelta(hours=1) == dt.timedelta(0)
+        if whole_hours:  # polars takes whole-hour offsets (as Etc/GMT zones)
+            pq = log.to_frame("polars")["timestamp"]
+            assert to_ns(pq).tolist() == ref.arrays()["time"].tolist()
+            assert {t.utcoffset() for t in pq.to_list()} == {tz.utcoffset(None)}
+        else:
+            with pytest.raises(tm.DataError, match="polars has no time zone"):
+                log.to_frame("polars")
+
+
+def test_text_with_one_offset_parsed_by_pandas() -> None:
+    texts = ["2025-01-06T09:00:00+01:00", "2025-01-06T10:30:00+01:00"]
+    frame = pd.DataFrame({"case": ["r1", "r1"], "activity": ["a", "b"],
+                          "timestamp": pd.to_datetime(texts)})  # dtype with tz UTC+01:00
+    log = build(frame)
+    assert log.to_frame()["timestamp"].tolist() == frame["timestamp"].tolist()
+    assert log.to_frame("polars")["timestamp"].to_list()[0].utcoffset() == dt.timedelta(hours=1)

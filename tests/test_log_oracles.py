@@ -322,3 +322,44 @@ def test_selected_log_statistics_match_recomputation(seed: int) -> None:
     want = Counter(zip(sub_frame["case"], sub_frame["activity"], strict=True))
     have = Counter(zip(sub.to_frame()["case"], sub.to_frame()["activity"], strict=True))
     assert have == want
+
+
+def lifecycle_frame(seed: int) -> pd.DataFrame:
+    """Cases of activity instances, each a start and a later complete event, one after another
+    (the next start follows the previous complete); lifecycle values in mixed spellings."""
+    rng = np.random.default_rng(seed)
+    rows = []
+    for c in range(40):
+        t = int(rng.integers(0, 10**6))
+        for _ in range(int(rng.integers(1, 5))):
+            a = str(rng.choice(["Inspect", "Repair", "Test ride"]))
+            wait = int(rng.integers(0, 600))
+            service = int(rng.integers(0, 3600))
+            rows.append((f"r{c}", a, t + wait, str(rng.choice(["start", "START", "Start"]))))
+            rows.append((f"r{c}", a, t + wait + service,
+                         str(rng.choice(["complete", "COMPLETE"]))))
+            t += wait + service
+    f = pd.DataFrame(rows, columns=["case", "activity", "timestamp", "lifecycle"])
+    f["timestamp"] = pd.to_datetime(f["timestamp"], unit="s")
+    return f
+
+
+@pytest.mark.parametrize("seed", [0, 1])
+def test_lifecycle_service_and_wait(seed: int) -> None:
+    frame = lifecycle_frame(seed)
+    st = build(frame, lifecycle="lifecycle").activity_stats().set_index("activity")
+    # pandas: each start is followed by its complete (rows alternate), so pairs are rows 2k and
+    # 2k+1; the wait before an instance is its start minus the previous complete of the case.
+    t = frame["timestamp"].dt.as_unit("ns").astype("int64")
+    starts, ends = frame.iloc[0::2].reset_index(drop=True), t.iloc[1::2].to_numpy()
+    inst = starts.assign(start=t.iloc[0::2].to_numpy(), end=ends)
+    inst["service"] = inst["end"] - inst["start"]
+    inst["wait"] = inst["start"] - inst.groupby("case")["end"].shift()
+    service = inst.groupby("activity")["service"]
+    wait = inst.dropna(subset=["wait"]).groupby("activity")["wait"]
+    for a in st.index:
+        assert to_ns(st.loc[[a], "service_mean"])[0] == rnd(service.mean()[a])
+        assert to_ns(st.loc[[a], "service_median"])[0] == rnd(service.median()[a])
+        assert to_ns(st.loc[[a], "wait_total"])[0] == wait.sum()[a]
+        assert to_ns(st.loc[[a], "wait_median"])[0] == rnd(wait.median()[a])
+    assert st["events"].sum() == len(frame)

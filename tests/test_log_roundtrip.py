@@ -142,3 +142,36 @@ def test_output_dtypes() -> None:
     assert q.schema["timestamp"] == pl.Datetime("ns")
     assert q.schema["activity"] == pl.String
     assert q.schema["parts"] == pl.Int64
+
+
+def test_html_repr_escapes_names() -> None:
+    # Python's html.parser reads the markup back: the text holds every activity name of the
+    # shown variants verbatim, and no element beyond the table's own.
+    from html.parser import HTMLParser
+
+    from strategies import ODD
+
+    n = len(ODD)
+    frame = pd.DataFrame({"case": [f"c{k % 4}" for k in range(n)], "activity": ODD,
+                          "timestamp": pd.to_datetime(np.arange(n), unit="s")})
+    log = build(frame)
+
+    class Reader(HTMLParser):
+        def __init__(self) -> None:
+            super().__init__(convert_charrefs=True)
+            self.tags: set[str] = set()
+            self.text: list[str] = []
+
+        def handle_starttag(self, tag: str, attrs: list) -> None:
+            self.tags.add(tag)
+
+        def handle_data(self, data: str) -> None:
+            self.text.append(data)
+
+    r = Reader()
+    r.feed(log._repr_html_())
+    r.close()
+    assert r.tags <= {"b", "table", "tr", "th", "td"}
+    cells = "".join(r.text)
+    for seq in log.variants()["activities"].head(5):
+        assert " → ".join(seq) in cells

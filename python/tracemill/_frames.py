@@ -308,7 +308,7 @@ def encode_times(col: Any, kind: str, name: str, fmt: str | None, *, allow_null:
     pd = importlib.import_module("pandas")
     dt = col.dtype
     if isinstance(dt, pd.DatetimeTZDtype):
-        tz = str(dt.tz)
+        tz = zone_name(dt.tz)
         s = col.dt.tz_convert("UTC").dt.tz_localize(None)
         return _pandas_naive_ns(s, tz, name, allow_null)
     if dt.kind == "M":
@@ -337,6 +337,25 @@ def encode_times(col: Any, kind: str, name: str, fmt: str | None, *, allow_null:
             parsed = parsed.dt.tz_convert("UTC").dt.tz_localize(None)
         return _pandas_naive_ns(parsed, "UTC" if is_aware else None, name, allow_null)
     raise _tserr(name, None, f"column '{name}' has dtype {dt}; expected datetimes or text")
+
+
+def zone_name(tz: Any) -> str:
+    """A name for a time zone that pandas, pyarrow and (for whole hours) polars accept: the IANA
+    key of a named zone, ``+HH:MM`` for a fixed offset (``str`` would give ``UTC+01:00``)."""
+    key = getattr(tz, "key", None) or getattr(tz, "zone", None)  # zoneinfo / pytz
+    if isinstance(key, str):
+        return key
+    try:
+        off = tz.utcoffset(None)
+    except (TypeError, ValueError, AttributeError):  # pragma: no cover - unusual tzinfo
+        off = None
+    if off is None:
+        return str(tz)
+    minutes = int(off.total_seconds()) // 60
+    if minutes == 0:
+        return "UTC"
+    h, m = divmod(abs(minutes), 60)
+    return f"{'+' if minutes > 0 else '-'}{h:02d}:{m:02d}"
 
 
 def _pandas_naive_ns(s: Any, tz: str | None, name: str, allow_null: bool) -> Times:

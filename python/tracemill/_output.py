@@ -7,7 +7,7 @@ from typing import Any, Literal
 
 import numpy as np
 
-from .exceptions import ParameterError
+from .exceptions import DataError, ParameterError
 
 FrameKind = Literal["pandas", "polars", "arrow"]
 
@@ -101,7 +101,13 @@ def make_frame(cols: dict[str, Col], kind: str) -> Any:
                 s = lib.Series(k, np.asarray(c.values, dtype=np.int64)).cast(
                     lib.Datetime("ns", "UTC" if c.tz else None))
                 if c.tz:
-                    s = s.dt.convert_time_zone(c.tz)
+                    try:
+                        s = s.dt.convert_time_zone(c.tz)
+                    except lib.exceptions.PolarsError as e:
+                        raise DataError(
+                            f"column '{k}': polars has no time zone for '{c.tz}' (it takes IANA "
+                            "zones and whole-hour offsets); use kind='pandas' or 'arrow'"
+                        ) from e
             elif c.kind == "duration":
                 v = np.asarray(c.values)
                 if v.dtype.kind == "f":
@@ -115,11 +121,11 @@ def make_frame(cols: dict[str, Col], kind: str) -> Any:
                 s = lib.select(lib.when(lib.Series(c.valid)).then(s)).to_series().alias(k)
             series.append(s)
         return lib.DataFrame(series)
-    # arrow: via polars when present, else via pandas
+    # arrow: via polars when present, else (or for a zone that polars lacks) via pandas
     try:
         return make_frame(cols, "polars").to_arrow()
-    except ImportError:  # pragma: no cover
-        return lib.Table.from_pandas(make_frame(cols, "pandas"))
+    except (ImportError, DataError):
+        return lib.Table.from_pandas(make_frame(cols, "pandas"), preserve_index=False)
 
 
 def _is_all_text(c: Col) -> bool:

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import html
 import os
 import re
 import warnings
@@ -227,7 +228,8 @@ class EventLog:
         top = self.variants().head(5)
         rows = "".join(
             f"<tr><td>{r['count']}</td><td>{r['share']:.1%}</td>"
-            f"<td>{' → '.join(r['activities'])}</td></tr>" for _, r in top.iterrows())
+            f"<td>{html.escape(' → '.join(r['activities']))}</td></tr>"
+            for _, r in top.iterrows())
         return (f"<b>EventLog</b>: {self.n_cases:,} cases, {self.n_events:,} events, "
                 f"{len(self.activities)} activities<table><tr><th>cases</th><th>share</th>"
                 f"<th>top variants</th></tr>{rows}</table>")

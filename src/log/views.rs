@@ -527,14 +527,25 @@ impl EventLog {
     /// to the next complete of the same activity in the case (matched first in, first out).
     pub fn activity_times(&self) -> ActivityTimes {
         let na = self.activity_names.len();
+        // Lifecycle values are matched ignoring ASCII case, so a column may hold several
+        // spellings of one transition ('start', 'START'): classify every dictionary entry.
         let lc = self.lifecycle.as_ref().and_then(|c| match &c.values {
             Values::Cat { codes, dict } => {
-                let find = |s: &str| {
-                    dict.iter()
-                        .position(|d| d.eq_ignore_ascii_case(s))
-                        .map(|i| i as u32)
-                };
-                Some((codes, find("start"), find("complete"), c))
+                let class: Vec<Transition> = dict
+                    .iter()
+                    .map(|d| {
+                        if d.eq_ignore_ascii_case("start") {
+                            Transition::Start
+                        } else if d.eq_ignore_ascii_case("complete") {
+                            Transition::Complete
+                        } else {
+                            Transition::Other
+                        }
+                    })
+                    .collect();
+                let both =
+                    class.contains(&Transition::Start) && class.contains(&Transition::Complete);
+                both.then_some((codes, class, c))
             }
             _ => None,
         });
@@ -548,8 +559,8 @@ impl EventLog {
                 let (s, e) = (self.offsets[c], self.offsets[c + 1]);
                 let mut waits = Vec::new();
                 let mut servs = Vec::new();
-                match lc {
-                    Some((codes, Some(st), Some(co), col)) => {
+                match &lc {
+                    Some((codes, class, col)) => {
                         // Wait: from the previous complete (or case start) to this start.
                         // Service: start -> the next complete of the same activity.
                         let mut last_complete: Option<i64> = None;
@@ -560,19 +571,23 @@ impl EventLog {
                                 continue;
                             }
                             let a = self.activity[i];
-                            if codes[i] == st {
-                                if let Some(t) = last_complete {
-                                    waits.push((a, self.time[i] - t));
+                            match class.get(codes[i] as usize) {
+                                Some(Transition::Start) => {
+                                    if let Some(t) = last_complete {
+                                        waits.push((a, self.time[i] - t));
+                                    }
+                                    open.push((a, self.time[i]));
                                 }
-                                open.push((a, self.time[i]));
-                            } else if codes[i] == co {
-                                if let Some(p) = open.iter().position(|&(b, _)| b == a) {
-                                    let (_, t0) = open.remove(p);
-                                    servs.push((a, self.time[i] - t0));
-                                } else if let Some(t) = last_complete {
-                                    waits.push((a, self.time[i] - t));
+                                Some(Transition::Complete) => {
+                                    if let Some(p) = open.iter().position(|&(b, _)| b == a) {
+                                        let (_, t0) = open.remove(p);
+                                        servs.push((a, self.time[i] - t0));
+                                    } else if let Some(t) = last_complete {
+                                        waits.push((a, self.time[i] - t));
+                                    }
+                                    last_complete = Some(self.time[i]);
                                 }
-                                last_complete = Some(self.time[i]);
+                                _ => {}
                             }
                         }
                     }
@@ -625,6 +640,14 @@ impl EventLog {
             service_median,
         }
     }
+}
+
+/// A lifecycle value as the service-time computation reads it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Transition {
+    Start,
+    Complete,
+    Other,
 }
 
 mod smallvec_like {
@@ -722,6 +745,37 @@ mod tests {
         let t = log.activity_times();
         assert_eq!(t.wait_count, vec![2, 1]);
         assert_eq!(t.wait_mean[0], 1.0);
+    }
+
+    #[test]
+    fn lifecycle_spellings_are_matched_ignoring_case() {
+        use crate::log::{Column, LogInput};
+        let mut input = LogInput::new(
+            vec![0; 4],
+            vec!["c".into()],
+            vec![0, 0, 1, 1],
+            vec!["x".into(), "y".into()],
+            vec![0, 10, 15, 40],
+        );
+        input.lifecycle = Some(Column::new(
+            "lifecycle",
+            Values::Cat {
+                codes: vec![0, 1, 2, 3],
+                dict: Arc::new(vec![
+                    "start".into(),
+                    "complete".into(),
+                    "START".into(),
+                    "Complete".into(),
+                ]),
+            },
+        ));
+        let (log, _) = EventLog::build(input).unwrap();
+        let t = log.activity_times();
+        assert_eq!(t.service_count, vec![1, 1]);
+        assert_eq!(t.service_mean, vec![10.0, 25.0]);
+        // y starts 5 after x completed
+        assert_eq!(t.wait_count, vec![0, 1]);
+        assert_eq!(t.wait_mean[1], 5.0);
     }
 
     #[test]
