@@ -106,6 +106,19 @@ FRAME_CASES = {
         small().assign(timestamp=["2025-01-06 09:00", "2025-01-06 09:30",
                                   "2025-01-06 10:00+01:00", "2025-01-06 11:00"]), {},
         Err(tm.TimestampError, "mixes timezone-aware and naive", column="timestamp", row=2)),
+    "timestamp beyond 2262": (
+        small().assign(timestamp=np.array(["2025-01-06", "2025-01-07", "2025-01-08",
+                                           "2500-01-01"], dtype="datetime64[s]")), {},
+        Err(tm.TimestampError, "row 3: 2500-01-01T00:00:00", column="timestamp", row=3)),
+    "text timestamp before 1677": (
+        small().assign(timestamp=["2025-01-06", "1500-06-01", "2025-01-08", "2025-01-09"]), {},
+        Err(tm.TimestampError, "outside the range of nanosecond timestamps",
+            column="timestamp", row=1)),
+    "attribute timestamp beyond 2262": (
+        small().assign(due=np.array(["2025-01-06", "9999-12-31", "NaT", "2025-01-09"],
+                                    dtype="datetime64[ms]")), {"event_attributes": ["due"]},
+        Err(tm.TimestampError, "outside the range of nanosecond timestamps", column="due",
+            row=1)),
     "numbers as timestamps": (
         small().assign(timestamp=[1, 2, 3, 4]), {},
         Err(tm.TimestampError, "expected datetimes or text", column="timestamp")),

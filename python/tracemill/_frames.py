@@ -249,9 +249,8 @@ def encode_times(col: Any, kind: str, name: str, fmt: str | None, *, allow_null:
         arr = col.combine_chunks() if hasattr(col, "combine_chunks") else col
         if pa.types.is_timestamp(arr.type) or pa.types.is_date(arr.type):
             tz = getattr(arr.type, "tz", None)
-            ns = arr.cast(pa.timestamp("ns", tz=tz)).cast(pa.int64())
-            valid = None if ns.null_count == 0 else ns.is_valid().to_numpy(zero_copy_only=False)
-            vals = ns.fill_null(0).to_numpy(zero_copy_only=False)
+            vals = _ns_of_datetimes(arr.to_numpy(zero_copy_only=False), name)  # UTC values
+            valid = None if arr.null_count == 0 else arr.is_valid().to_numpy(zero_copy_only=False)
             return _finish_times(vals, valid, tz, name, allow_null)
         try:
             pl = importlib.import_module("polars")
@@ -261,16 +260,11 @@ def encode_times(col: Any, kind: str, name: str, fmt: str | None, *, allow_null:
     if kind == "polars":
         pl = importlib.import_module("polars")
         dt = col.dtype
-        if dt == pl.Date:
-            col = col.cast(pl.Datetime("ns"))
-            dt = col.dtype
-        if isinstance(dt, pl.Datetime):
-            tz = dt.time_zone
-            if tz is not None:
-                col = col.dt.convert_time_zone("UTC")
-            vals = col.dt.cast_time_unit("ns").to_physical()
-            valid = None if vals.null_count() == 0 else vals.is_not_null().to_numpy()
-            return _finish_times(vals.fill_null(0).to_numpy(), valid, tz, name, allow_null)
+        if dt == pl.Date or isinstance(dt, pl.Datetime):
+            tz = dt.time_zone if isinstance(dt, pl.Datetime) else None
+            vals = _ns_of_datetimes(col.to_numpy(), name)  # UTC values, any unit
+            valid = None if col.null_count() == 0 else col.is_not_null().to_numpy()
+            return _finish_times(vals, valid, tz, name, allow_null)
         if dt in (pl.String, pl.Categorical) or isinstance(dt, pl.Enum):
             s = col.cast(pl.String)
             present = s.is_not_null().to_numpy()
@@ -289,8 +283,10 @@ def encode_times(col: Any, kind: str, name: str, fmt: str | None, *, allow_null:
                                  "other layouts")
                 is_aware = _check_mixed(aware, present, name, lambda r: s[r])
             try:
+                # Microseconds first: parsing straight to ns wraps years beyond 1677-2262
+                # around silently; _ns_of_datetimes refuses them instead.
                 parsed = s.str.to_datetime(
-                    format=fmt, strict=False, time_unit="ns",
+                    format=fmt, strict=False, time_unit="us",
                     time_zone="UTC" if is_aware else None,
                 )
             except Exception as e:  # polars raises for an unusable format
@@ -300,10 +296,9 @@ def encode_times(col: Any, kind: str, name: str, fmt: str | None, *, allow_null:
                 r = int(bad[0])
                 raise _tserr(name, r, f"column '{name}', row {r}: cannot parse {s[r]!r} as a "
                              f"timestamp{' with format ' + repr(fmt) if fmt else ''}")
-            vals = parsed.to_physical()
+            vals = _ns_of_datetimes(parsed.to_numpy(), name)
             valid = None if present.all() else present
-            return _finish_times(vals.fill_null(0).to_numpy(), valid, "UTC" if is_aware else None,
-                                 name, allow_null)
+            return _finish_times(vals, valid, "UTC" if is_aware else None, name, allow_null)
         raise _tserr(name, None, f"column '{name}' has type {dt}; expected datetimes or text")
     pd = importlib.import_module("pandas")
     dt = col.dtype
@@ -360,9 +355,33 @@ def zone_name(tz: Any) -> str:
 
 def _pandas_naive_ns(s: Any, tz: str | None, name: str, allow_null: bool) -> Times:
     valid = ~s.isna().to_numpy()
-    vals = s.astype("datetime64[ns]").to_numpy().view(np.int64).copy()
-    vals[~valid] = 0
+    vals = _ns_of_datetimes(s.to_numpy(), name)
     return _finish_times(vals, None if valid.all() else valid, tz, name, allow_null)
+
+
+_NS_MAX = np.iinfo(np.int64).max
+
+
+def _ns_of_datetimes(vals: np.ndarray, name: str) -> np.ndarray:
+    """``datetime64`` values of any unit as int64 ns (0 under NaT), refusing values that do not
+    fit int64 nanoseconds (before 1677-09-21 or after 2262-04-11) instead of wrapping them."""
+    vals = np.asarray(vals)
+    if vals.dtype.kind != "M":  # pragma: no cover - callers pass datetimes
+        raise _tserr(name, None, f"column '{name}' has dtype {vals.dtype}; expected datetimes")
+    raw = vals.view(np.int64)
+    nat = np.isnat(vals)
+    unit, count = np.datetime_data(vals.dtype)
+    factor = int(np.timedelta64(count, unit) // np.timedelta64(1, "ns")) if unit != "ns" else 1
+    if factor > 1:
+        lim = _NS_MAX // factor
+        bad = np.flatnonzero(~nat & ((raw > lim) | (raw < -lim)))
+        if len(bad):
+            r = int(bad[0])
+            raise _tserr(name, r, f"column '{name}', row {r}: {vals[r]} is outside the range of "
+                         "nanosecond timestamps (1677-09-21 to 2262-04-11)")
+    out = raw * factor if factor > 1 else raw.copy()
+    out[nat] = 0
+    return out
 
 
 def _finish_times(vals: np.ndarray, valid: np.ndarray | None, tz: str | None, name: str,
