@@ -1,0 +1,1 @@
+//! Conformance checking placeholder.
