@@ -1,1 +1,4 @@
-//! Conformance checking placeholder.
+//! Conformance checking: token replay, alignments, precision.
+pub mod replay;
+pub mod align;
+pub mod precision;
