@@ -25,11 +25,34 @@ from .exceptions import (
     TracemillIOError,
     TracemillWarning,
 )
+from .conform import align, precision, quality_table, simplicity, token_replay
+from .discover import (
+    AlphaDiscovery,
+    DependencyDiscovery,
+    DirectlyFollowsDiscovery,
+    InductiveDiscovery,
+    compare_directly_follows,
+)
 from .log import EventLog
+from .models import DependencyGraph, DirectlyFollowsGraph, PetriNet, ProcessTree
 
 __version__: str = _core.__version__
 
 __all__ = [
+    "AlphaDiscovery",
+    "DependencyDiscovery",
+    "DependencyGraph",
+    "DirectlyFollowsDiscovery",
+    "DirectlyFollowsGraph",
+    "InductiveDiscovery",
+    "PetriNet",
+    "ProcessTree",
+    "align",
+    "compare_directly_follows",
+    "precision",
+    "quality_table",
+    "simplicity",
+    "token_replay",
     "DataError",
     "DataQualityWarning",
     "EventLog",

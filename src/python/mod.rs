@@ -2,6 +2,7 @@
 //! kernel with the GIL released (see [`run`]), return owned numpy arrays.
 
 mod convert;
+mod discover;
 mod errors;
 mod log;
 mod run;
@@ -39,6 +40,7 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(log::build_log, m)?)?;
     m.add_function(wrap_pyfunction!(convert::factorize_utf8, m)?)?;
     m.add_function(wrap_pyfunction!(convert::factorize_i64, m)?)?;
+    discover::register(m)?;
     m.add_function(wrap_pyfunction!(_panic_for_test, m)?)?;
     m.add_function(wrap_pyfunction!(_sleep_for_test, m)?)?;
     Ok(())
