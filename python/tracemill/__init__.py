@@ -11,6 +11,14 @@ you. Statistics, rules and trees describe associations in past data, not causes.
 from __future__ import annotations
 
 from . import _core
+from .conform import align, precision, quality_table, simplicity, token_replay
+from .discover import (
+    AlphaDiscovery,
+    DependencyDiscovery,
+    DirectlyFollowsDiscovery,
+    InductiveDiscovery,
+    compare_directly_follows,
+)
 from .exceptions import (
     DataError,
     DataQualityWarning,
@@ -25,14 +33,6 @@ from .exceptions import (
     TracemillIOError,
     TracemillWarning,
 )
-from .conform import align, precision, quality_table, simplicity, token_replay
-from .discover import (
-    AlphaDiscovery,
-    DependencyDiscovery,
-    DirectlyFollowsDiscovery,
-    InductiveDiscovery,
-    compare_directly_follows,
-)
 from .log import EventLog
 from .models import DependencyGraph, DirectlyFollowsGraph, PetriNet, ProcessTree
 
@@ -40,31 +40,31 @@ __version__: str = _core.__version__
 
 __all__ = [
     "AlphaDiscovery",
+    "DataError",
+    "DataQualityWarning",
     "DependencyDiscovery",
     "DependencyGraph",
     "DirectlyFollowsDiscovery",
     "DirectlyFollowsGraph",
-    "InductiveDiscovery",
-    "PetriNet",
-    "ProcessTree",
-    "align",
-    "compare_directly_follows",
-    "precision",
-    "quality_table",
-    "simplicity",
-    "token_replay",
-    "DataError",
-    "DataQualityWarning",
     "EventLog",
     "FormatError",
+    "InductiveDiscovery",
     "InternalError",
     "LimitError",
     "NotFittedError",
     "ParameterError",
+    "PetriNet",
+    "ProcessTree",
     "SchemaError",
     "TimestampError",
     "TracemillError",
     "TracemillIOError",
     "TracemillWarning",
     "__version__",
+    "align",
+    "compare_directly_follows",
+    "precision",
+    "quality_table",
+    "simplicity",
+    "token_replay",
 ]

@@ -151,7 +151,8 @@ def token_replay(net: PetriNet, log: EventLog, *, max_silent_states: int = 10_00
     --------
     >>> import pandas as pd, tracemill as tm
     >>> rows = [(c, a) for c, t in enumerate(["abc", "ac"]) for a in t]
-    >>> frame = pd.DataFrame(rows, columns=["case", "act"]).assign(t=pd.date_range("2025-01-06", periods=5, freq="h"))
+    >>> frame = pd.DataFrame(rows, columns=["case", "act"])
+    >>> frame["t"] = pd.date_range("2025-01-06", periods=len(frame), freq="h")
     >>> log = tm.EventLog.from_frame(frame, case="case", activity="act", timestamp="t")
     >>> net = tm.ProcessTree.from_nested(("sequence", "a", "b", "c")).to_petri_net()
     >>> r = tm.token_replay(net, log)
@@ -243,7 +244,7 @@ class AlignmentResult:
             n = int(self._counts[v])
             seen: set[tuple[int, str]] = set()
             case = int(np.flatnonzero(self._case_variant == v)[0]) if b > a else -1
-            for k, e, t in zip(self._mk[a:b], self._me[a:b], self._mt[a:b]):
+            for k, e, t in zip(self._mk[a:b], self._me[a:b], self._mt[a:b], strict=False):
                 if k == 1:
                     off = self._log.arrays()["offsets"][case]
                     key = (1, acts[int(self._log.arrays()["activity"][off + e])])
@@ -302,7 +303,8 @@ def align(net: PetriNet, log: EventLog, *, max_states: int = 200_000) -> Alignme
     --------
     >>> import pandas as pd, tracemill as tm
     >>> rows = [(c, a) for c, t in enumerate(["abc", "ac", "abxc"]) for a in t]
-    >>> frame = pd.DataFrame(rows, columns=["case", "act"]).assign(t=pd.date_range("2025-01-06", periods=len(rows), freq="h"))
+    >>> frame = pd.DataFrame(rows, columns=["case", "act"])
+    >>> frame["t"] = pd.date_range("2025-01-06", periods=len(frame), freq="h")
     >>> log = tm.EventLog.from_frame(frame, case="case", activity="act", timestamp="t")
     >>> net = tm.ProcessTree.from_nested(("sequence", "a", "b", "c")).to_petri_net()
     >>> res = tm.align(net, log)
@@ -327,7 +329,8 @@ def precision(net: PetriNet, log: EventLog, *, max_silent_states: int = 10_000) 
     --------
     >>> import pandas as pd, tracemill as tm
     >>> rows = [(c, a) for c, t in enumerate(["abd", "abd"]) for a in t]
-    >>> frame = pd.DataFrame(rows, columns=["case", "act"]).assign(t=pd.date_range("2025-01-06", periods=6, freq="h"))
+    >>> frame = pd.DataFrame(rows, columns=["case", "act"])
+    >>> frame["t"] = pd.date_range("2025-01-06", periods=len(frame), freq="h")
     >>> log = tm.EventLog.from_frame(frame, case="case", activity="act", timestamp="t")
     >>> net = tm.ProcessTree.from_nested(("sequence", "a", ("choice", "b", "c"), "d"))
     >>> round(tm.precision(net.to_petri_net(), log), 4)   # 1 - 2/8: c is never seen after a

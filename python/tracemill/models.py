@@ -47,7 +47,7 @@ def _q(s: str) -> str:
 def _shade(x: float) -> str:
     a, b = _PALETTE["sand"], _PALETTE["copper"]
     x = min(max(x, 0.0), 1.0)
-    return "#" + "".join(f"{round(p + (q - p) * x):02x}" for p, q in zip(a, b))
+    return "#" + "".join(f"{round(p + (q - p) * x):02x}" for p, q in zip(a, b, strict=False))
 
 
 def _hours(ns: float) -> str:
@@ -208,7 +208,7 @@ class PetriNet(_Drawable):
         """Arcs as ``(source, target, weight)`` by name."""
         out = []
         for p, t, into, w in zip(self._arc_place, self._arc_transition, self._arc_into,
-                                 self._arc_weight):
+                                 self._arc_weight, strict=False):
             pn, tn = self.places[p], self.transitions[t]
             out.append((pn, tn, int(w)) if into else (tn, pn, int(w)))
         return out
@@ -258,10 +258,10 @@ class PetriNet(_Drawable):
         for i, p in enumerate(self.places):
             g.add_node(("place", p), kind="place", label=p,
                        initial=int(self.initial_marking[i]), final=int(self.final_marking[i]))
-        for t, lab in zip(self.transitions, self.labels):
+        for t, lab in zip(self.transitions, self.labels, strict=False):
             g.add_node(("transition", t), kind="transition", label=lab)
         for p, t, into, w in zip(self._arc_place, self._arc_transition, self._arc_into,
-                                 self._arc_weight):
+                                 self._arc_weight, strict=False):
             a, b = ("place", self.places[p]), ("transition", self.transitions[t])
             if into:
                 g.add_edge(a, b, weight=int(w))
@@ -283,7 +283,7 @@ class PetriNet(_Drawable):
             lines.append(f"  p{i} [shape={shape}, style=filled, fillcolor=\"{fill}\", "
                          f"color=\"{c['place_line']}\", width=0.3, fixedsize=true, "
                          f"label={_q(label)}, tooltip={_q(p)}];")
-        for j, (t, lab) in enumerate(zip(self.transitions, self.labels)):
+        for j, (t, lab) in enumerate(zip(self.transitions, self.labels, strict=False)):
             if lab is None:
                 lines.append(f"  t{j} [shape=diamond, style=\"filled,dashed\", fillcolor="
                              f"\"{c['silent']}\", width=0.3, height=0.3, fixedsize=true, "
@@ -293,7 +293,7 @@ class PetriNet(_Drawable):
                              f"\"{c['transition']}\", fontcolor=\"{c['transition_text']}\", "
                              f"label={_q(lab)}, tooltip={_q(t)}];")
         for p, t, into, w in zip(self._arc_place, self._arc_transition, self._arc_into,
-                                 self._arc_weight):
+                                 self._arc_weight, strict=False):
             lab = f" [label={_q(str(w))}]" if w > 1 else ""
             lines.append(f"  p{p} -> t{t}{lab};" if into else f"  t{t} -> p{p}{lab};")
         lines.append("}")
@@ -405,7 +405,7 @@ class ProcessTree(_Drawable):
     @property
     def activities(self) -> list[str]:
         """Activity labels of the leaves."""
-        return [lab for k, lab in zip(self.kind, self.label) if k == 0]
+        return [lab for k, lab in zip(self.kind, self.label, strict=False) if k == 0]
 
     def __str__(self) -> str:
         return self._text
@@ -691,7 +691,7 @@ class DependencyGraph(_Drawable):
         g = nx.DiGraph()
         for i in np.flatnonzero(self.activity_count > 0):
             g.add_node(self.activities[i], events=int(self.activity_count[i]))
-        for a, b in zip(self.source, self.target):
+        for a, b in zip(self.source, self.target, strict=False):
             g.add_edge(self.activities[a], self.activities[b], follows=int(self.follows[a, b]),
                        dependency=float(self.dependency[a, b]))
         return g
@@ -705,7 +705,7 @@ class DependencyGraph(_Drawable):
         for i in np.flatnonzero(self.activity_count > 0):
             lines.append(f"  a{i} [shape=box, style=\"rounded,filled\", fillcolor="
                          f"\"{_shade(0.25)}\", label={_q(self.activities[i])}];")
-        for a, b in zip(self.source, self.target):
+        for a, b in zip(self.source, self.target, strict=False):
             lines.append(f"  a{a} -> a{b} [label={_q(f'{self.dependency[a, b]:.2f}')}];")
         lines.append("}")
         return "\n".join(lines)

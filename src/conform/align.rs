@@ -27,8 +27,8 @@ use std::collections::{BinaryHeap, HashMap};
 
 use rayon::prelude::*;
 
-use crate::control::Control;
 use crate::conform::replay::check_bounded;
+use crate::control::Control;
 use crate::discover::petri::{CompiledNet, PetriNet};
 use crate::error::{TmError, TmResult};
 use crate::log::EventLog;
@@ -262,7 +262,10 @@ pub fn align_log(
         return Err(TmError::data("the event log is empty: nothing to align"));
     }
     if p.max_states == 0 {
-        return Err(TmError::param("max_states", "max_states must be at least 1"));
+        return Err(TmError::param(
+            "max_states",
+            "max_states must be at least 1",
+        ));
     }
     let cn = CompiledNet::new(net, log.activity_names())?;
     check_bounded(net, &cn, p.boundedness_budget)?;
@@ -307,7 +310,11 @@ pub fn align_log(
                 let d = lengths[v] + model_run_cost;
                 num += n * c;
                 den += n * d;
-                let f = if d == 0 { 1.0 } else { 1.0 - c as f64 / d as f64 };
+                let f = if d == 0 {
+                    1.0
+                } else {
+                    1.0 - c as f64 / d as f64
+                };
                 fsum += n as f64 * f;
                 ncases += n;
             }

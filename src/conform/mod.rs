@@ -1,4 +1,4 @@
 //! Conformance checking: token replay, alignments, precision.
-pub mod replay;
 pub mod align;
 pub mod precision;
+pub mod replay;

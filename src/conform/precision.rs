@@ -19,6 +19,9 @@
 //! one input and one output scores 1. (Definition from memory, after the quality dimensions of
 //! Buijs, van Dongen & van der Aalst 2012, CoopIS.)
 
+// Index loops over dense adjacency matrices read closer to the definitions.
+#![allow(clippy::needless_range_loop)]
+
 use std::collections::{BTreeSet, HashMap, HashSet, VecDeque};
 
 use crate::conform::replay::{check_bounded, Replayer, TraceReplay};
@@ -186,7 +189,10 @@ mod tests {
         let p = etc_precision(&net, &running_example(), 10_000, &Control::new()).unwrap();
         assert_eq!((p.escaping, p.allowed), (0, 70));
         assert_relative_eq!(p.precision, 1.0);
-        let log = log_of(&[(&["a", "b", "c", "d", "f"], 4), (&["a", "c", "b", "e", "f"], 1)]);
+        let log = log_of(&[
+            (&["a", "b", "c", "d", "f"], 4),
+            (&["a", "c", "b", "e", "f"], 1),
+        ]);
         let p = etc_precision(&net, &log, 10_000, &Control::new()).unwrap();
         assert_eq!((p.escaping, p.allowed), (5, 35));
         assert_relative_eq!(p.precision, 1.0 - 5.0 / 35.0);

@@ -80,8 +80,16 @@ impl TraceReplay {
 
 /// The replay fitness formula (terms with a zero denominator count as 1).
 pub fn fitness(p: u64, c: u64, m: u64, r: u64) -> f64 {
-    let a = if c == 0 { 1.0 } else { 1.0 - m as f64 / c as f64 };
-    let b = if p == 0 { 1.0 } else { 1.0 - r as f64 / p as f64 };
+    let a = if c == 0 {
+        1.0
+    } else {
+        1.0 - m as f64 / c as f64
+    };
+    let b = if p == 0 {
+        1.0
+    } else {
+        1.0 - r as f64 / p as f64
+    };
     0.5 * a + 0.5 * b
 }
 
@@ -192,7 +200,7 @@ impl Replayer<'_> {
     }
 
     /// Replay one event of activity `a` from marking `m`.
-    pub fn step(&self, m: &mut Vec<u32>, a: u32, r: &mut TraceReplay) {
+    pub fn step(&self, m: &mut [u32], a: u32, r: &mut TraceReplay) {
         let ts = &self.cn.by_activity[a as usize];
         if ts.is_empty() {
             r.unmatched += 1;
@@ -223,12 +231,16 @@ impl Replayer<'_> {
                 .map(|&(p, w)| w.saturating_sub(m[p as usize]))
                 .sum()
         };
-        let t = ts.iter().copied().min_by_key(|&t| (lack(t), t)).unwrap_or(ts[0]);
+        let t = ts
+            .iter()
+            .copied()
+            .min_by_key(|&t| (lack(t), t))
+            .unwrap_or(ts[0]);
         self.fire_counted(m, t as usize, r);
     }
 
     /// Finish a trace: silent steps towards the final marking, consume it, count the rest.
-    pub fn finish(&self, m: &mut Vec<u32>, r: &mut TraceReplay) {
+    pub fn finish(&self, m: &mut [u32], r: &mut TraceReplay) {
         let fin = &self.cn.final_marking;
         let covers = |x: &[u32]| x.iter().zip(fin).all(|(a, b)| a >= b);
         if !covers(m) {
@@ -350,7 +362,11 @@ mod tests {
         ];
         for (t, (p, c, m, r), f) in cases {
             let x = one(&net, t);
-            assert_eq!((x.produced, x.consumed, x.missing, x.remaining), (p, c, m, r), "{t:?}");
+            assert_eq!(
+                (x.produced, x.consumed, x.missing, x.remaining),
+                (p, c, m, r),
+                "{t:?}"
+            );
             assert_relative_eq!(x.fitness(), f, epsilon = 1e-6);
         }
         let log = log_of(&[(&["a", "b", "c", "d", "f"], 8), (&["a", "b", "d", "f"], 2)]);
@@ -374,9 +390,17 @@ mod tests {
         net.arc_in(0, t);
         net.arc_out(t, 0);
         net.arc_out(t, q);
-        let e = replay_log(&net, &running_example(), &ReplayParams::default(), &Control::new())
-            .unwrap_err();
-        assert!(e.to_string().contains("unbounded") && e.to_string().contains("pile"), "{e}");
+        let e = replay_log(
+            &net,
+            &running_example(),
+            &ReplayParams::default(),
+            &Control::new(),
+        )
+        .unwrap_err();
+        assert!(
+            e.to_string().contains("unbounded") && e.to_string().contains("pile"),
+            "{e}"
+        );
     }
 
     #[test]
@@ -386,7 +410,10 @@ mod tests {
             NodeKind::Sequence,
             vec![
                 Tree::Act("a".into()),
-                Tree::Op(NodeKind::Parallel, vec![Tree::Act("b".into()), Tree::Act("c".into())]),
+                Tree::Op(
+                    NodeKind::Parallel,
+                    vec![Tree::Act("b".into()), Tree::Act("c".into())],
+                ),
                 Tree::Op(NodeKind::Loop, vec![Tree::Act("d".into()), Tree::Tau]),
             ],
         );

@@ -207,7 +207,11 @@ mod tests {
     #[test]
     fn choice_log() {
         // L = [abd, acd]: a -> b, a -> c, b # c, so one place ({a},{b,c}) and one ({b,c},{d}).
-        let net = alpha_net(&log_of(&[(&["a", "b", "d"], 1), (&["a", "c", "d"], 1)]), 1000).unwrap();
+        let net = alpha_net(
+            &log_of(&[(&["a", "b", "d"], 1), (&["a", "c", "d"], 1)]),
+            1000,
+        )
+        .unwrap();
         assert!(net.places.contains(&"({a},{b,c})".to_string()));
         assert!(net.places.contains(&"({b,c},{d})".to_string()));
         assert_eq!(net.places.len(), 4);

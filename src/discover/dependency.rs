@@ -171,7 +171,8 @@ pub fn dependency_graph(log: &EventLog, p: &DependencyParams) -> TmResult<Depend
                 continue;
             }
             let d = dep[a * na + b];
-            let near_best = best_out[a] - d <= p.relative_to_best || best_in[b] - d <= p.relative_to_best;
+            let near_best =
+                best_out[a] - d <= p.relative_to_best || best_in[b] - d <= p.relative_to_best;
             if d >= p.dependency_threshold && cnt[a * na + b] >= p.min_observations && near_best {
                 keep[a * na + b] = true;
             }
@@ -249,7 +250,10 @@ mod tests {
 
     #[test]
     fn loops_detected() {
-        let log = log_of(&[(&["a", "b", "b", "b", "c"], 5), (&["a", "d", "e", "d", "e", "d", "c"], 5)]);
+        let log = log_of(&[
+            (&["a", "b", "b", "b", "c"], 5),
+            (&["a", "d", "e", "d", "e", "d", "c"], 5),
+        ]);
         let g = dependency_graph(&log, &DependencyParams::default()).unwrap();
         let ix = |s: &str| g.activities.iter().position(|x| x == s).unwrap() as u32;
         assert!(g.edges.contains(&(ix("b"), ix("b"))));

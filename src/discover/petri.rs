@@ -174,7 +174,10 @@ impl PetriNet {
 
     /// Number of silent transitions.
     pub fn n_silent(&self) -> usize {
-        self.transitions.iter().filter(|t| t.label.is_none()).count()
+        self.transitions
+            .iter()
+            .filter(|t| t.label.is_none())
+            .count()
     }
 
     /// The workflow-net source and sink, if the net is a workflow net: exactly one place without

@@ -215,7 +215,9 @@ impl ProcessTree {
         let mut stack = vec![self.root];
         while let Some(x) = stack.pop() {
             if seen[x] {
-                return Err(TmError::data(format!("process tree node {x} is reached twice")));
+                return Err(TmError::data(format!(
+                    "process tree node {x} is reached twice"
+                )));
             }
             seen[x] = true;
             let nd = &self.nodes[x];
@@ -322,7 +324,11 @@ impl ProcessTree {
                 let k = node.children.len();
                 let mut cur = entry;
                 for (i, &c) in node.children.iter().enumerate() {
-                    let nxt = if i + 1 == k { exit } else { place(net, n_place) };
+                    let nxt = if i + 1 == k {
+                        exit
+                    } else {
+                        place(net, n_place)
+                    };
                     self.emit(c, cur, nxt, net, uses, n_tau, n_place);
                     cur = nxt;
                 }
@@ -439,7 +445,10 @@ mod tests {
             ],
         )
         .simplify();
-        assert_eq!(t, Tree::Op(NodeKind::Sequence, vec![act("a"), act("b"), act("c")]));
+        assert_eq!(
+            t,
+            Tree::Op(NodeKind::Sequence, vec![act("a"), act("b"), act("c")])
+        );
     }
 
     #[test]

@@ -36,7 +36,11 @@ impl Out {
         }
     }
     fn gateway(&mut self, kind: &str, dir: &str) -> String {
-        let id = self.id(if kind == "parallelGateway" { "and" } else { "xor" });
+        let id = self.id(if kind == "parallelGateway" {
+            "and"
+        } else {
+            "xor"
+        });
         self.elements.push(format!(
             "    <{kind} id=\"{id}\" gatewayDirection=\"{dir}\"/>"
         ));
@@ -139,7 +143,10 @@ mod tests {
             NodeKind::Sequence,
             vec![
                 Tree::Act("a".into()),
-                Tree::Op(NodeKind::Parallel, vec![Tree::Act("b".into()), Tree::Act("c".into())]),
+                Tree::Op(
+                    NodeKind::Parallel,
+                    vec![Tree::Act("b".into()), Tree::Act("c".into())],
+                ),
                 Tree::Op(NodeKind::Choice, vec![Tree::Tau, Tree::Act("d".into())]),
                 Tree::Op(NodeKind::Loop, vec![Tree::Act("e".into()), Tree::Tau]),
             ],

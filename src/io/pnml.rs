@@ -80,7 +80,10 @@ fn unescape(s: &str, line: u64) -> TmResult<String> {
     while let Some(i) = rest.find('&') {
         out.push_str(&rest[..i]);
         let j = rest[i..].find(';').ok_or_else(|| {
-            TmError::format(Some(line), format!("PNML line {line}: unterminated '&' reference"))
+            TmError::format(
+                Some(line),
+                format!("PNML line {line}: unterminated '&' reference"),
+            )
         })?;
         out.push_str(&entity(&rest[i + 1..i + j], line)?);
         rest = &rest[i + j + 1..];
@@ -126,7 +129,10 @@ fn start_el(e: &BytesStart<'_>, line: u64) -> TmResult<El> {
     let mut attrs = Vec::new();
     for a in e.attributes() {
         let a = a.map_err(|err| {
-            TmError::format(Some(line), format!("PNML line {line}: bad attribute: {err}"))
+            TmError::format(
+                Some(line),
+                format!("PNML line {line}: bad attribute: {err}"),
+            )
         })?;
         let v = String::from_utf8_lossy(&a.value).to_string();
         attrs.push((local(a.key.as_ref()), unescape(&v, line)?));
@@ -144,10 +150,12 @@ fn parse_tree(xml: &str) -> TmResult<El> {
     let mut r = Reader::from_str(xml);
     r.config_mut().check_end_names = true;
     let mut stack: Vec<El> = vec![El::default()];
-    let line_at = |pos: u64| 1 + xml.as_bytes()[..(pos as usize).min(xml.len())]
-        .iter()
-        .filter(|&&b| b == b'\n')
-        .count() as u64;
+    let line_at = |pos: u64| {
+        1 + xml.as_bytes()[..(pos as usize).min(xml.len())]
+            .iter()
+            .filter(|&&b| b == b'\n')
+            .count() as u64
+    };
     loop {
         let pos = r.buffer_position();
         let ev = r.read_event().map_err(|e| {
@@ -254,8 +262,10 @@ fn walk<'a>(page: &'a El, c: &mut Collect<'a>) -> TmResult<()> {
             "arc" => c.arcs.push(ch),
             "page" => walk(ch, c)?,
             "referencePlace" | "referenceTransition" => {
-                c.refs
-                    .insert(ch.need("id")?.to_string(), (ch.need("ref")?.to_string(), ch.line));
+                c.refs.insert(
+                    ch.need("id")?.to_string(),
+                    (ch.need("ref")?.to_string(), ch.line),
+                );
             }
             _ => {}
         }
@@ -275,9 +285,9 @@ pub fn read_pnml(xml: &str) -> TmResult<PetriNet> {
             ),
         ));
     }
-    let net_el = root.child("net").ok_or_else(|| {
-        TmError::format(Some(root.line), "PNML document has no <net> element")
-    })?;
+    let net_el = root
+        .child("net")
+        .ok_or_else(|| TmError::format(Some(root.line), "PNML document has no <net> element"))?;
     if let Some(t) = net_el.attr("type") {
         if !(t == PTNET_TYPE || t.trim_end_matches('/').ends_with("/ptnet")) {
             return Err(TmError::format(
@@ -491,7 +501,9 @@ pub fn write_pnml(net: &PetriNet, name: &str) -> TmResult<String> {
     }
     s.push_str("    </page>\n");
     if net.final_marking.iter().any(|&x| x > 0) {
-        s.push_str(&format!("    <toolspecific tool=\"{TOOL}\" version=\"1\">\n"));
+        s.push_str(&format!(
+            "    <toolspecific tool=\"{TOOL}\" version=\"1\">\n"
+        ));
         for (i, &k) in net.final_marking.iter().enumerate() {
             if k > 0 {
                 s.push_str(&format!(
@@ -531,21 +543,28 @@ mod tests {
              <page id=\"g\"/></net></pnml>",
         )
         .unwrap_err();
-        assert!(e.to_string().contains("symmetricnet") && e.to_string().contains("<net"), "{e}");
+        assert!(
+            e.to_string().contains("symmetricnet") && e.to_string().contains("<net"),
+            "{e}"
+        );
         assert!(matches!(e, TmError::Format { line: Some(2), .. }));
     }
 
     #[test]
     fn malformed_named() {
-        let e = read_pnml("<pnml><net id=\"n\"><page id=\"g\"><place id=\"p\"></page></net></pnml>")
-            .unwrap_err();
+        let e =
+            read_pnml("<pnml><net id=\"n\"><page id=\"g\"><place id=\"p\"></page></net></pnml>")
+                .unwrap_err();
         assert!(matches!(e, TmError::Format { .. }), "{e}");
         let e = read_pnml(
             "<pnml><net id=\"n\"><page id=\"g\"><place id=\"p\"/><arc id=\"a\" target=\"p\"/>\
              </page></net></pnml>",
         )
         .unwrap_err();
-        assert!(e.to_string().contains("<arc>") && e.to_string().contains("source"), "{e}");
+        assert!(
+            e.to_string().contains("<arc>") && e.to_string().contains("source"),
+            "{e}"
+        );
         let e = read_pnml(
             "<pnml><net id=\"n\"><page id=\"g\"><place id=\"p\"><initialMarking><text>x</text>\
              </initialMarking></place></page></net></pnml>",

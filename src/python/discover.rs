@@ -51,7 +51,9 @@ fn u32_of(v: i64, what: &str) -> Result<u32, TmError> {
 fn net_from(s: NetSpec) -> Result<PetriNet, TmError> {
     let (places, names, labels, ap, at, ai, aw, init, fin) = s;
     if names.len() != labels.len() {
-        return Err(TmError::data("transition names and labels differ in length"));
+        return Err(TmError::data(
+            "transition names and labels differ in length",
+        ));
     }
     let n = ap.len();
     if at.len() != n || ai.len() != n || aw.len() != n {

@@ -15,6 +15,9 @@
 //!   parts if they are entered only from end activities (from all of them) and left only to
 //!   start activities (to all of them); others join the body.
 
+// Index loops over dense adjacency matrices read closer to the definitions.
+#![allow(clippy::needless_range_loop)]
+
 use super::SubLog;
 
 /// The directly-follows graph of a sublog over its own activities.
@@ -200,8 +203,12 @@ pub fn sequence_cut(g: &LocalDfg) -> Option<Vec<Vec<usize>>> {
         let mut merged = false;
         'outer: for i in 0..groups.len() {
             for j in (i + 1)..groups.len() {
-                let ij = groups[i].iter().any(|&x| groups[j].iter().any(|&y| r[x][y]));
-                let ji = groups[j].iter().any(|&y| groups[i].iter().any(|&x| r[y][x]));
+                let ij = groups[i]
+                    .iter()
+                    .any(|&x| groups[j].iter().any(|&y| r[x][y]));
+                let ji = groups[j]
+                    .iter()
+                    .any(|&y| groups[i].iter().any(|&x| r[y][x]));
                 if !ij && !ji {
                     d.union(groups[i][0], groups[j][0]);
                     merged = true;

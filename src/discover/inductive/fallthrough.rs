@@ -68,12 +68,7 @@ pub fn remove_activity(log: &SubLog, a: u32) -> SubLog {
 /// Split traces where an end activity is directly followed by a start activity; `None` when
 /// no trace splits.
 pub fn strict_tau_loop(log: &SubLog, g: &LocalDfg) -> Option<SubLog> {
-    let is = |v: &Vec<u64>, a: u32| {
-        g.acts
-            .binary_search(&a)
-            .map(|i| v[i] > 0)
-            .unwrap_or(false)
-    };
+    let is = |v: &Vec<u64>, a: u32| g.acts.binary_search(&a).map(|i| v[i] > 0).unwrap_or(false);
     split_where(log, |prev, next| is(&g.end, prev) && is(&g.start, next))
 }
 

@@ -134,8 +134,7 @@ impl Miner<'_> {
             let a = g.acts[0];
             let act = Tree::Act(self.names[a as usize].clone());
             let single: u64 = log.iter().filter(|x| x.0.len() == 1).map(|x| x.1).sum();
-            if single == total || (self.f > 0.0 && single as f64 >= (1.0 - self.f) * total as f64)
-            {
+            if single == total || (self.f > 0.0 && single as f64 >= (1.0 - self.f) * total as f64) {
                 return Ok(act);
             }
             return Ok(Tree::Op(NodeKind::Loop, vec![act, Tree::Tau]));
@@ -248,7 +247,9 @@ fn split_xor(log: &SubLog, part_of: &[usize], k: usize) -> Vec<SubLog> {
             votes[part_of[a as usize]] += 1;
         }
         // Most events; ties go to the lower part.
-        let best = (0..k).max_by_key(|&i| (votes[i], std::cmp::Reverse(i))).unwrap_or(0);
+        let best = (0..k)
+            .max_by_key(|&i| (votes[i], std::cmp::Reverse(i)))
+            .unwrap_or(0);
         let kept: Vec<u32> = t
             .iter()
             .copied()
@@ -389,9 +390,7 @@ mod tests {
     fn mine(log: &EventLog, f: f64) -> String {
         inductive_tree(
             log,
-            &InductiveParams {
-                noise_threshold: f,
-            },
+            &InductiveParams { noise_threshold: f },
             &Control::new(),
         )
         .unwrap()
@@ -449,7 +448,11 @@ mod tests {
 
     #[test]
     fn flower_when_nothing_fits() {
-        let log = log_of(&[(&["a", "b", "a", "c"], 1), (&["c", "a", "b"], 1), (&["b", "c", "c"], 1)]);
+        let log = log_of(&[
+            (&["a", "b", "a", "c"], 1),
+            (&["c", "a", "b"], 1),
+            (&["b", "c", "c"], 1),
+        ]);
         let t = mine(&log, 0.0);
         assert!(t.contains("loop"), "{t}");
     }
