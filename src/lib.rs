@@ -6,12 +6,18 @@
 //! * [`log`]: the event log, its derived views and selections;
 //! * [`sim`]: a process simulator that writes event logs with their ground truth;
 //! * [`control`]: cancellation and progress for long kernels;
-//! * [`error`]: the error type shared by all kernels.
+//! * [`error`]: the error type shared by all kernels;
+//! * [`discover`]: process discovery (directly-follows, dependency, alpha, inductive);
+//! * [`conform`]: conformance checking (token replay, alignments, precision);
+//! * [`io`]: PNML and BPMN files.
 
 #![warn(missing_docs)]
 
+pub mod conform;
 pub mod control;
+pub mod discover;
 pub mod error;
+pub mod io;
 pub mod log;
 pub mod sim;
 

@@ -11,6 +11,14 @@ you. Statistics, rules and trees describe associations in past data, not causes.
 from __future__ import annotations
 
 from . import _core
+from .conform import align, precision, quality_table, simplicity, token_replay
+from .discover import (
+    AlphaDiscovery,
+    DependencyDiscovery,
+    DirectlyFollowsDiscovery,
+    InductiveDiscovery,
+    compare_directly_follows,
+)
 from .exceptions import (
     DataError,
     DataQualityWarning,
@@ -26,19 +34,28 @@ from .exceptions import (
     TracemillWarning,
 )
 from .log import EventLog
+from .models import DependencyGraph, DirectlyFollowsGraph, PetriNet, ProcessTree
 from .simulation import Truth, simulate, workshop, workshop_spec
 
 __version__: str = _core.__version__
 
 __all__ = [
+    "AlphaDiscovery",
     "DataError",
     "DataQualityWarning",
+    "DependencyDiscovery",
+    "DependencyGraph",
+    "DirectlyFollowsDiscovery",
+    "DirectlyFollowsGraph",
     "EventLog",
     "FormatError",
+    "InductiveDiscovery",
     "InternalError",
     "LimitError",
     "NotFittedError",
     "ParameterError",
+    "PetriNet",
+    "ProcessTree",
     "SchemaError",
     "TimestampError",
     "TracemillError",
@@ -46,7 +63,13 @@ __all__ = [
     "TracemillWarning",
     "Truth",
     "__version__",
+    "align",
+    "compare_directly_follows",
+    "precision",
+    "quality_table",
+    "simplicity",
     "simulate",
+    "token_replay",
     "workshop",
     "workshop_spec",
 ]

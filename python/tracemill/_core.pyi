@@ -79,3 +79,74 @@ def simulate(
 ) -> tuple[LogHandle, int, int, tuple[Any, ...]]: ...
 def workshop_json() -> str: ...
 def check_spec(spec_json: str) -> str: ...
+# ---------------------------------------------------------------- discovery and conformance
+NetSpec = tuple[
+    list[str], list[str], list[str | None], list[int], list[int], list[bool], list[int],
+    list[int], list[int],
+]
+TreeSpec = tuple[list[int] | bytes, list[int], list[str]]
+
+def dfg(
+    log: LogHandle,
+    min_activity_count: int = 0,
+    min_edge_count: int = 0,
+    path_coverage: float = 1.0,
+    performance: bool = True,
+    progress: Callable[[int, int], Any] | None = None,
+) -> tuple[
+    npt.NDArray[np.bool_], npt.NDArray[np.uint64], npt.NDArray[np.uint64],
+    npt.NDArray[np.uint64], npt.NDArray[np.uint32], npt.NDArray[np.uint32],
+    npt.NDArray[np.uint64], npt.NDArray[np.uint64], npt.NDArray[np.float64],
+    npt.NDArray[np.float64], npt.NDArray[np.float64], int,
+]: ...
+def dependency(
+    log: LogHandle,
+    dependency_threshold: float,
+    min_observations: int,
+    relative_to_best: float,
+    loop1_threshold: float,
+    loop2_threshold: float,
+    all_connected: bool,
+) -> tuple[
+    npt.NDArray[np.uint64], npt.NDArray[np.float64], npt.NDArray[np.float64],
+    npt.NDArray[np.uint32], npt.NDArray[np.uint32], npt.NDArray[np.uint64],
+    npt.NDArray[np.uint64], npt.NDArray[np.uint64],
+]: ...
+def alpha(log: LogHandle, max_candidates: int = 100000) -> NetSpec: ...
+def inductive(
+    log: LogHandle,
+    noise_threshold: float = 0.0,
+    progress: Callable[[int, int], Any] | None = None,
+) -> TreeSpec: ...
+def tree_net(tree: TreeSpec) -> NetSpec: ...
+def tree_text(tree: TreeSpec) -> str: ...
+def tree_bpmn(tree: TreeSpec, name: str) -> str: ...
+def pnml_read(text: str) -> NetSpec: ...
+def pnml_write(net: NetSpec, name: str) -> str: ...
+def net_check(net: NetSpec) -> tuple[int, int]: ...
+def replay(
+    net: NetSpec,
+    log: LogHandle,
+    max_silent_states: int = 10000,
+    progress: Callable[[int, int], Any] | None = None,
+) -> tuple[
+    npt.NDArray[np.uint64], npt.NDArray[np.uint64], npt.NDArray[np.uint64],
+    npt.NDArray[np.uint64], npt.NDArray[np.uint64], npt.NDArray[np.int64],
+    npt.NDArray[np.uint32], npt.NDArray[np.uint32], npt.NDArray[np.uint32],
+    npt.NDArray[np.uint64], tuple[int, int, int, int], float,
+]: ...
+def align(
+    net: NetSpec,
+    log: LogHandle,
+    max_states: int = 200000,
+    progress: Callable[[int, int], Any] | None = None,
+) -> tuple[
+    npt.NDArray[np.int64], npt.NDArray[np.bool_], npt.NDArray[np.uint64],
+    npt.NDArray[np.int64], npt.NDArray[np.uint8], npt.NDArray[np.int32],
+    npt.NDArray[np.int32], npt.NDArray[np.uint32], npt.NDArray[np.uint64],
+    npt.NDArray[np.uint64], tuple[int, float, float, int],
+]: ...
+def precision(
+    net: NetSpec, log: LogHandle, max_silent_states: int = 10000
+) -> tuple[float, int, int, int]: ...
+def net_simplicity(net: NetSpec) -> float: ...

@@ -2,6 +2,7 @@
 //! kernel with the GIL released (see [`run`]), return owned numpy arrays.
 
 mod convert;
+mod discover;
 mod errors;
 mod log;
 mod run;
@@ -43,6 +44,7 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(sim::simulate, m)?)?;
     m.add_function(wrap_pyfunction!(sim::workshop_json, m)?)?;
     m.add_function(wrap_pyfunction!(sim::check_spec, m)?)?;
+    discover::register(m)?;
     m.add_function(wrap_pyfunction!(_panic_for_test, m)?)?;
     m.add_function(wrap_pyfunction!(_sleep_for_test, m)?)?;
     Ok(())
