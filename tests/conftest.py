@@ -196,7 +196,7 @@ def to_ns(values: Any) -> np.ndarray:
 
 def values_of(frame: Any) -> dict[str, list[object]]:
     """Column values of a pandas or polars frame as Python lists: any kind of null (None, NaN,
-    NA, NaT) as None, datetimes as int ns UTC."""
+    NA, NaT) as None, datetimes as int ns UTC, durations as int ns."""
     out: dict[str, list[object]] = {}
     if type(frame).__module__.split(".")[0] == "polars":
         import polars as pl
@@ -204,7 +204,7 @@ def values_of(frame: Any) -> dict[str, list[object]]:
         for c in frame.columns:
             s = frame[c]
             nulls = s.is_null().to_list()
-            if isinstance(s.dtype, pl.Datetime):
+            if isinstance(s.dtype, (pl.Datetime, pl.Duration)):
                 vals = to_ns(s).tolist()
             elif s.dtype.is_float():
                 nulls = (s.is_null() | s.is_nan()).to_list()

@@ -19,7 +19,7 @@ import numpy as np
 import pandas as pd
 import polars as pl
 import pytest
-from conftest import build, random_event_frame, to_ns
+from conftest import SHAPES, build, random_event_frame, to_ns, values_of
 
 # --------------------------------------------------------------------------- references
 
@@ -363,3 +363,24 @@ def test_lifecycle_service_and_wait(seed: int) -> None:
         assert to_ns(st.loc[[a], "wait_total"])[0] == wait.sum()[a]
         assert to_ns(st.loc[[a], "wait_median"])[0] == rnd(wait.median()[a])
     assert st["events"].sum() == len(frame)
+
+
+VIEWS = ["variants", "case_table", "directly_follows", "activity_stats"]
+
+
+@pytest.mark.parametrize("view", VIEWS)
+def test_result_tables_agree_across_kinds(view: str) -> None:
+    # The polars and Arrow tables hold the pandas table's values (read back with polars'
+    # converters); variant sequences are lists of strings there.
+    frame = random_event_frame(SHAPES[4])
+    log = build(frame, resource="resource", case_attributes=["bike"])
+    want = values_of(getattr(log, view)("pandas"))
+    if "activities" in want:
+        want["activities"] = [list(t) for t in want["activities"]]
+    q = getattr(log, view)("polars")
+    assert isinstance(q, pl.DataFrame)
+    assert values_of(q) == want
+    a = getattr(log, view)("arrow")
+    assert values_of(pl.from_arrow(a)) == want
+    if view == "variants":
+        assert q.schema["activities"] == pl.List(pl.String)

@@ -35,7 +35,8 @@ class Col:
     def __init__(self, values: Any, *, kind: str = "plain", valid: np.ndarray | None = None,
                  names: list[str] | np.ndarray | None = None, tz: str | None = None) -> None:
         self.values = values
-        self.kind = kind  # plain | text (codes + names) | time (int64 ns) | duration (ns)
+        # plain | text (codes + names) | time (int64 ns) | duration (ns) | seq (tuples of text)
+        self.kind = kind
         self.valid = valid
         self.names = names
         self.tz = tz
@@ -108,6 +109,8 @@ def make_frame(cols: dict[str, Col], kind: str) -> Any:
                             f"column '{k}': polars has no time zone for '{c.tz}' (it takes IANA "
                             "zones and whole-hour offsets); use kind='pandas' or 'arrow'"
                         ) from e
+            elif c.kind == "seq":
+                s = lib.Series(k, [list(x) for x in c.values], dtype=lib.List(lib.String))
             elif c.kind == "duration":
                 v = np.asarray(c.values)
                 if v.dtype.kind == "f":

@@ -311,8 +311,9 @@ class EventLog:
         """Distinct activity sequences, most frequent first.
 
         Columns: ``variant`` (rank, 0 = most frequent), ``count`` (cases), ``share``,
-        ``length`` and ``activities`` (tuple of names). Ties on count are ordered by first
-        appearance. :meth:`variant_cases` gives the cases of a variant.
+        ``length`` and ``activities`` (tuple of names in pandas, a list of strings in polars
+        and Arrow). Ties on count are ordered by first appearance. :meth:`variant_cases` gives
+        the cases of a variant.
         """
         offsets, acts, counts, _cv, _co, _cases = self._h.variants()
         names = np.asarray(self.activities, dtype=object)
@@ -323,7 +324,7 @@ class EventLog:
             "count": Col(counts.astype(np.int64)),
             "share": Col(counts / max(self.n_cases, 1)),
             "length": Col(np.diff(offsets)),
-            "activities": Col(seqs),
+            "activities": Col(seqs, kind="seq"),
         }
         return make_frame(cols, kind)
 
