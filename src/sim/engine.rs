@@ -377,7 +377,7 @@ fn plan_chunk(
     let mut pl = Planner::default();
     let mut frontier: Vec<u32> = Vec::new();
     let mut vals = vec![0.0f64; na];
-    for k in lo..hi {
+    for (k, &arrival) in arrivals.iter().enumerate().take(hi).skip(lo) {
         let mut rng = case_rng(seed, k, 1);
         let u: f64 = rng.random();
         let seg = m
@@ -406,7 +406,7 @@ fn plan_chunk(
                 AttrModel::Bool { p, .. } => f64::from(u8::from(rng.random::<f64>() < p[s])),
             };
         }
-        let after = change.is_some_and(|c| arrivals[k] >= c);
+        let after = change.is_some_and(|c| arrival >= c);
         pl.clear();
         frontier.clear();
         pl.expand(&m.flow, &mut frontier, &mut rng, seg, &vals, after);
@@ -1173,7 +1173,7 @@ mod tests {
             if let Some(o) = last("open", "complete") {
                 assert!(o <= first("x", "start").unwrap() && o <= first("y", "start").unwrap());
             }
-            assert!(first("y", "complete").unwrap() <= z_end - 0);
+            assert!(first("y", "complete").unwrap() <= z_end);
             let dev = sim.truth.deviation[k];
             let check = first("check", "start").or(first("close", "start")).unwrap();
             assert!(
@@ -1358,6 +1358,25 @@ mod tests {
             simulate(&small(), 0, 1, &Control::new()),
             Err(TmError::Parameter { .. })
         ));
+    }
+
+    #[test]
+    fn times_beyond_2262_are_a_limit_error() {
+        let spec = |mean: f64, dur: f64| {
+            ProcessSpec::from_json(&format!(
+                r#"{{"start": "2025-01-06", "arrival": {{"mean": {mean}}},
+                    "resources": [{{"name": "r", "capacity": 1,
+                                   "hours": {{"days": ["mon"], "from": 8, "to": 9}}}}],
+                    "activities": [{{"name": "a", "resource": "r",
+                                    "duration": {{"dist": "constant", "value": {dur}}}}}],
+                    "flow": {{"step": "a"}}}}"#
+            ))
+            .unwrap()
+        };
+        for (mean, dur) in [(1e9, 1.0), (1.0, 1e12), (1.0, 1e7)] {
+            let e = simulate(&spec(mean, dur), 1_000, 1, &Control::new()).unwrap_err();
+            assert!(matches!(e, TmError::Limit { .. }), "{e:?}");
+        }
     }
 
     fn err_of(edit: impl Fn(&mut serde_json::Value)) -> String {
