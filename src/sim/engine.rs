@@ -1354,6 +1354,14 @@ mod tests {
     }
 
     #[test]
+    fn public_types_are_send_and_sync() {
+        fn check<T: Send + Sync>() {}
+        check::<Simulation>();
+        check::<Truth>();
+        check::<ProcessSpec>();
+    }
+
+    #[test]
     fn bad_arguments_are_errors() {
         assert!(matches!(
             simulate(&small(), 0, 1, &Control::new()),
