@@ -22,6 +22,9 @@ fn perr(path: &str, message: String) -> TmError {
     TmError::param(path, message)
 }
 
+/// Latest time the calendar arithmetic handles without overflow.
+const TIME_MAX: i64 = i64::MAX - 4 * WEEK_NS;
+
 /// A ready-to-draw distribution.
 #[derive(Debug, Clone)]
 pub(crate) enum Sampler {
@@ -213,8 +216,12 @@ impl Calendar {
         Ok(Calendar { intervals })
     }
 
-    /// The first instant at or after `t` when the pool is open.
+    /// The first instant at or after `t` when the pool is open (`i64::MAX` near the end of
+    /// representable time).
     pub(crate) fn next_open(&self, t: i64) -> i64 {
+        if t > TIME_MAX {
+            return i64::MAX;
+        }
         let rel = t - MONDAY_NS;
         let week = rel.div_euclid(WEEK_NS);
         let off = rel.rem_euclid(WEEK_NS);
@@ -232,6 +239,9 @@ impl Calendar {
         let mut t = self.next_open(t);
         let mut left = dur;
         loop {
+            if t > TIME_MAX {
+                return i64::MAX;
+            }
             let rel = t - MONDAY_NS;
             let off = rel.rem_euclid(WEEK_NS);
             let base = t - off;

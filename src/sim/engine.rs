@@ -7,7 +7,7 @@
 //! independent Exp(1) draws, form a non-homogeneous Poisson process with rate `λ` (the
 //! time-change / inversion method; Çinlar 1975, *Introduction to Stochastic Processes*, and
 //! Lewis & Shedler 1979, Naval Research Logistics Quarterly 26(3), who give the thinning
-//! alternative [mem]). The Exp(1) draws are made in parallel; the prefix sum is sequential.
+//! alternative \[mem\]). The Exp(1) draws are made in parallel; the prefix sum is sequential.
 //!
 //! **Phase 1, plans** (parallel over cases). Each case draws its segment, its attributes and
 //! its *plan*: the flow tree with every choice and loop resolved into a small DAG of activity
@@ -16,7 +16,7 @@
 //! and event attributes are drawn.
 //!
 //! **Phase 2, queues** (sequential). A discrete-event simulation (see Law, *Simulation Modeling
-//! and Analysis*, 5th ed. 2015, ch. 1 [mem]) with one binary heap of completion events. A node
+//! and Analysis*, 5th ed. 2015, ch. 1 \[mem\]) with one binary heap of completion events. A node
 //! becomes ready when all its predecessors completed; it then takes a free member of its
 //! resource pool or joins the pool's first-in, first-out queue; a member that completes takes
 //! the head of the queue. Working hours delay a start to the next opening and pause work while
@@ -25,7 +25,7 @@
 //!
 //! **Determinism.** Case `k` draws from its own generator, Xoshiro256++ seeded with
 //! `seed ^ splitmix64(2k + stream)` (Blackman & Vigna 2021, ACM TOMS 47(4), for both
-//! generators [mem]), so results do not depend on the number of threads.
+//! generators \[mem\]), so results do not depend on the number of threads.
 
 use std::cmp::Reverse;
 use std::collections::{BinaryHeap, VecDeque};
@@ -377,7 +377,7 @@ fn plan_chunk(
     let mut pl = Planner::default();
     let mut frontier: Vec<u32> = Vec::new();
     let mut vals = vec![0.0f64; na];
-    for k in lo..hi {
+    for (k, &arrival) in arrivals.iter().enumerate().take(hi).skip(lo) {
         let mut rng = case_rng(seed, k, 1);
         let u: f64 = rng.random();
         let seg = m
@@ -406,7 +406,7 @@ fn plan_chunk(
                 AttrModel::Bool { p, .. } => f64::from(u8::from(rng.random::<f64>() < p[s])),
             };
         }
-        let after = change.is_some_and(|c| arrivals[k] >= c);
+        let after = change.is_some_and(|c| arrival >= c);
         pl.clear();
         frontier.clear();
         pl.expand(&m.flow, &mut frontier, &mut rng, seg, &vals, after);
@@ -1173,7 +1173,7 @@ mod tests {
             if let Some(o) = last("open", "complete") {
                 assert!(o <= first("x", "start").unwrap() && o <= first("y", "start").unwrap());
             }
-            assert!(first("y", "complete").unwrap() <= z_end - 0);
+            assert!(first("y", "complete").unwrap() <= z_end);
             let dev = sim.truth.deviation[k];
             let check = first("check", "start").or(first("close", "start")).unwrap();
             assert!(
@@ -1282,10 +1282,11 @@ mod tests {
     }
 
     /// The M/M/2 queue against the Erlang C formula (Erlang 1917; e.g. Kleinrock 1975,
-    /// *Queueing Systems* vol. 1, eq. 3.40 [mem]): with arrival rate λ, service rate μ per
+    /// *Queueing Systems* vol. 1, eq. 3.40 \[mem\]): with arrival rate λ, service rate μ per
     /// server, c servers, a = λ/μ, ρ = a/c, P(wait) = (aᶜ/c!)/(1-ρ) / (Σ_{k<c} aᵏ/k! +
     /// (aᶜ/c!)/(1-ρ)) and the mean wait W_q = P(wait) / (cμ − λ). Here λ = 1/10, μ = 1/12, c = 2:
-    /// a = 1.2, ρ = 0.6, P(wait) = 1.8/4.0 = 0.45, W_q = 0.45/(1/15) = 6.75 minutes [calc].
+    /// a = 1.2, ρ = 0.6, P(wait) = 1.8/4.0 = 0.45, W_q = 0.45/(1/15) = 6.75 minutes
+    /// \[calc: recomputed from the formula in Python\].
     #[test]
     fn mm2_waiting_matches_erlang_c() {
         let spec = ProcessSpec::from_json(
@@ -1353,11 +1354,38 @@ mod tests {
     }
 
     #[test]
+    fn public_types_are_send_and_sync() {
+        fn check<T: Send + Sync>() {}
+        check::<Simulation>();
+        check::<Truth>();
+        check::<ProcessSpec>();
+    }
+
+    #[test]
     fn bad_arguments_are_errors() {
         assert!(matches!(
             simulate(&small(), 0, 1, &Control::new()),
             Err(TmError::Parameter { .. })
         ));
+    }
+
+    #[test]
+    fn times_beyond_2262_are_a_limit_error() {
+        let spec = |mean: f64, dur: f64| {
+            ProcessSpec::from_json(&format!(
+                r#"{{"start": "2025-01-06", "arrival": {{"mean": {mean}}},
+                    "resources": [{{"name": "r", "capacity": 1,
+                                   "hours": {{"days": ["mon"], "from": 8, "to": 9}}}}],
+                    "activities": [{{"name": "a", "resource": "r",
+                                    "duration": {{"dist": "constant", "value": {dur}}}}}],
+                    "flow": {{"step": "a"}}}}"#
+            ))
+            .unwrap()
+        };
+        for (mean, dur) in [(1e9, 1.0), (1.0, 1e12), (1.0, 1e7)] {
+            let e = simulate(&spec(mean, dur), 1_000, 1, &Control::new()).unwrap_err();
+            assert!(matches!(e, TmError::Limit { .. }), "{e:?}");
+        }
     }
 
     fn err_of(edit: impl Fn(&mut serde_json::Value)) -> String {

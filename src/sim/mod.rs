@@ -10,9 +10,9 @@
 //! How the engine works (parallel plans, then one discrete-event run over FIFO queues) is
 //! described in [`engine`]. The method is the textbook one: a process tree of sequence,
 //! exclusive choice, parallel and loop operators (as in the process-tree notation of
-//! van der Aalst, *Process Mining: Data Science in Action*, 2nd ed. 2016, ch. 3 [mem]) played
+//! van der Aalst, *Process Mining: Data Science in Action*, 2nd ed. 2016, ch. 3 \[mem\]) played
 //! out stochastically, and multi-server queues (Kendall's M/M/c when times are exponential;
-//! Kleinrock 1975, *Queueing Systems* vol. 1, ch. 3 [mem]). The tests compare the mean
+//! Kleinrock 1975, *Queueing Systems* vol. 1, ch. 3 \[mem\]). The tests compare the mean
 //! waiting time of an M/M/2 queue with the Erlang C formula.
 //!
 //! # The JSON format

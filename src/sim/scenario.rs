@@ -233,6 +233,59 @@ mod tests {
         assert_eq!(workshop_scenario(), s);
     }
 
+    /// The planted bottleneck and the slow cases show in the output.
+    #[test]
+    fn workshop_bottleneck_and_slow_cases_are_visible() {
+        let sim = simulate(&workshop_scenario(), 20_000, 3, &Control::new()).unwrap();
+        let truth = sim.truth.clone();
+        let (log, _) = EventLog::build(sim.input).unwrap();
+        let names = log.activity_names();
+        let lc = log.lifecycle().unwrap();
+        // Per activity with start events: mean time from the latest earlier event of the case
+        // to the start (a lower bound of the queueing time).
+        let mut wait: std::collections::HashMap<&str, (f64, usize)> = Default::default();
+        let parts = names.iter().position(|n| n == "Parts arrive").unwrap() as u32;
+        let (mut with_parts, mut without) = ((0.0, 0usize), (0.0, 0usize));
+        let mut by_seg = vec![(0.0, 0usize); 4];
+        for c in 0..log.n_cases() {
+            let off = log.offsets()[c];
+            let times = log.trace_times(c);
+            let acts = log.trace(c);
+            for i in 1..acts.len() {
+                if lc.values.text(off + i) == "start" {
+                    let e = wait.entry(names[acts[i] as usize].as_str()).or_default();
+                    e.0 += (times[i] - times[i - 1]) as f64 / 3.6e12;
+                    e.1 += 1;
+                }
+            }
+            let days = (times[times.len() - 1] - times[0]) as f64 / 8.64e13;
+            let slot = if acts.contains(&parts) {
+                &mut with_parts
+            } else {
+                &mut without
+            };
+            slot.0 += days;
+            slot.1 += 1;
+            let s = &mut by_seg[truth.segment[c] as usize];
+            s.0 += days;
+            s.1 += 1;
+        }
+        let mean = |x: (f64, usize)| x.0 / x.1 as f64;
+        let mut w: Vec<(&str, f64)> = wait.iter().map(|(k, v)| (*k, mean(*v))).collect();
+        w.sort_by(|a, b| b.1.total_cmp(&a.1));
+        let top: Vec<&str> = w.iter().take(2).map(|x| x.0).collect();
+        assert!(
+            top.contains(&"True wheel") && top.contains(&"Electrical diagnosis"),
+            "{w:?}"
+        );
+        assert!(
+            mean(with_parts) > 2.0 * mean(without),
+            "{with_parts:?} {without:?}"
+        );
+        let d: Vec<f64> = by_seg.iter().map(|&x| mean(x)).collect();
+        assert!(d[2] > d[1] && d[1] > d[0], "mean days by segment {d:?}");
+    }
+
     #[test]
     fn workshop_log_builds_with_planted_shape() {
         let sim = simulate(&workshop_scenario(), 5_000, 7, &Control::new()).unwrap();

@@ -730,8 +730,8 @@ pub(crate) fn parse_iso(s: &str) -> Option<i64> {
             if o.len() != 4 {
                 return None;
             }
-            let oh = digits(&o[..2])?;
-            let om = digits(&o[2..])?;
+            let oh = digits(o.get(..2)?)?;
+            let om = digits(o.get(2..)?)?;
             if oh > 23 || om > 59 {
                 return None;
             }
@@ -764,6 +764,8 @@ mod tests {
         assert_eq!(parse_iso("2025-13-01"), None);
         assert_eq!(parse_iso("yesterday"), None);
         assert_eq!(parse_iso("2025-01-06T25:00"), None);
+        assert_eq!(parse_iso("2025-01-06T08:00+1\u{e9}1"), None);
+        assert_eq!(parse_iso("2025-01-0\u{e9}"), None);
     }
 
     #[test]
