@@ -1,5 +1,8 @@
 """Shared fixtures: a small random event-log generator, hypothesis profiles, helpers.
 
+Hypothesis profiles (``TRACEMILL_HYPOTHESIS_PROFILE``): ``fast`` (default, 50 examples),
+``ci`` (the same, derandomized) and ``slow`` (1000 examples).
+
 The generator is deliberately local to the tests (numpy ``Generator`` with fixed seeds) so that
 the oracle tests do not depend on tracemill's own simulator. Its scenario is a bicycle-repair
 workshop: cases are repair orders, activities are workshop steps.
@@ -29,6 +32,9 @@ settings.register_profile(
     "slow", max_examples=1000, deadline=None,
     suppress_health_check=[HealthCheck.too_slow, HealthCheck.data_too_large],
 )
+# CI (.ci/run): as fast, but the same examples on every run and no example database.
+settings.register_profile("ci", parent=settings.get_profile("fast"), derandomize=True,
+                          database=None, print_blob=True)
 settings.load_profile(os.environ.get("TRACEMILL_HYPOTHESIS_PROFILE", "fast"))
 
 # --------------------------------------------------------------------------- random logs
