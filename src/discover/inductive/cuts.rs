@@ -197,27 +197,15 @@ pub fn sequence_cut(g: &LocalDfg) -> Option<Vec<Vec<usize>>> {
             }
         }
     }
-    // Merge pairwise-unreachable components until stable.
-    loop {
-        let groups = d.groups(n);
-        let mut merged = false;
-        'outer: for i in 0..groups.len() {
-            for j in (i + 1)..groups.len() {
-                let ij = groups[i]
-                    .iter()
-                    .any(|&x| groups[j].iter().any(|&y| r[x][y]));
-                let ji = groups[j]
-                    .iter()
-                    .any(|&y| groups[i].iter().any(|&x| r[y][x]));
-                if !ij && !ji {
-                    d.union(groups[i][0], groups[j][0]);
-                    merged = true;
-                    break 'outer;
-                }
+    // Merge every pair of activities that cannot reach each other (either way): they must share
+    // a sequence part. Done per activity pair, not per merged group, so that an optional branch
+    // (`F`) joins the whole alternative it is exclusive with (`Q -> A -> B`), even though the
+    // members of that alternative reach one another.
+    for a in 0..n {
+        for b in (a + 1)..n {
+            if !r[a][b] && !r[b][a] {
+                d.union(a, b);
             }
-        }
-        if !merged {
-            break;
         }
     }
     let mut groups = d.groups(n);
