@@ -283,6 +283,15 @@ class EventLog:
         Columns: ``case``, ``activity``, ``timestamp``, then ``resource`` and ``lifecycle``
         when present, event attributes, and case attributes repeated on each event. Rows are in
         log order (by case, then time).
+
+        Notes
+        -----
+        Values come back as given; some types change. Times are nanoseconds, naive or in the
+        column's zone (a fixed offset becomes ``+HH:MM``; polars takes only whole-hour offsets).
+        In pandas, a float NaN was read as null and comes back as ``<NA>`` in a nullable
+        ``Float64`` column; integer and boolean columns with nulls become ``Int64`` and
+        ``boolean``; text becomes the default string dtype; integer case ids come back as
+        ``int64``. In polars and Arrow, text is ``String``/``large_string``.
         """
         check_kind(kind)
         _offsets, keys, act, time, _row = self._h.core_arrays()
@@ -466,7 +475,11 @@ class EventLog:
     def within(self, start: Any, end: Any, rule: WindowRule = "contained") -> EventLog:
         """Cases related to the time window ``[start, end)`` by ``rule``: ``contained`` (all
         events inside), ``intersecting`` (some event inside), ``started`` or ``completed``
-        (first or last event inside)."""
+        (first or last event inside).
+
+        ``start`` and ``end`` are text, datetimes or int ns since the epoch; aware values are
+        converted to UTC and naive ones are read as UTC, as naive timestamps are when a log is
+        built."""
         s, e = _to_ns(start, "start"), _to_ns(end, "end")
         if e <= s:
             raise _param("end", "the window end must be after its start")
