@@ -453,3 +453,14 @@ def test_text_with_one_offset_parsed_by_pandas() -> None:
     log = build(frame)
     assert log.to_frame()["timestamp"].tolist() == frame["timestamp"].tolist()
     assert log.to_frame("polars")["timestamp"].to_list()[0].utcoffset() == dt.timedelta(hours=1)
+
+
+def test_text_timestamps_keep_nanoseconds() -> None:
+    texts = ["2025-01-01T10:00:00.123456789", "2025-01-01T10:00:00.123456790",
+             "2262-04-11T23:47:16.854775807"]  # the last instant int64 nanoseconds hold
+    frame = pd.DataFrame({"case": ["a", "a", "a"], "activity": ["x", "y", "z"],
+                          "timestamp": texts})
+    want = [pd.Timestamp(t).value for t in texts]  # pandas' ns parser
+    assert want[-1] == np.iinfo(np.int64).max
+    for f in three_kinds(frame).values():
+        assert build(f).arrays()["time"].tolist() == want

@@ -284,11 +284,9 @@ def encode_times(col: Any, kind: str, name: str, fmt: str | None, *, allow_null:
                 is_aware = _check_mixed(aware, present, name, lambda r: s[r])
             try:
                 # Microseconds first: parsing straight to ns wraps years beyond 1677-2262
-                # around silently; _ns_of_datetimes refuses them instead.
-                parsed = s.str.to_datetime(
-                    format=fmt, strict=False, time_unit="us",
-                    time_zone="UTC" if is_aware else None,
-                )
+                # around silently; _ns_of_datetimes refuses them. Then ns, for the digits.
+                parse = {"format": fmt, "strict": False, "time_zone": "UTC" if is_aware else None}
+                parsed = s.str.to_datetime(time_unit="us", **parse)
             except Exception as e:  # polars raises for an unusable format
                 raise _tserr(name, None, f"column '{name}': cannot parse timestamps: {e}") from e
             bad = np.flatnonzero(present & ~parsed.is_not_null().to_numpy())
@@ -296,7 +294,8 @@ def encode_times(col: Any, kind: str, name: str, fmt: str | None, *, allow_null:
                 r = int(bad[0])
                 raise _tserr(name, r, f"column '{name}', row {r}: cannot parse {s[r]!r} as a "
                              f"timestamp{' with format ' + repr(fmt) if fmt else ''}")
-            vals = _ns_of_datetimes(parsed.to_numpy(), name)
+            _ns_of_datetimes(parsed.to_numpy(), name)
+            vals = _ns_of_datetimes(s.str.to_datetime(time_unit="ns", **parse).to_numpy(), name)
             valid = None if present.all() else present
             return _finish_times(vals, valid, "UTC" if is_aware else None, name, allow_null)
         raise _tserr(name, None, f"column '{name}' has type {dt}; expected datetimes or text")
