@@ -119,6 +119,9 @@ FRAME_CASES = {
                                     dtype="datetime64[ms]")), {"event_attributes": ["due"]},
         Err(tm.TimestampError, "outside the range of nanosecond timestamps", column="due",
             row=1)),
+    "unsigned case ids beyond int64": (
+        small().assign(case=np.array([2**64 - 1, 2**64 - 1, 5, 6], dtype=np.uint64)), {},
+        Err(tm.SchemaError, "unsigned values above 2**63-1", column="case")),
     "numbers as timestamps": (
         small().assign(timestamp=[1, 2, 3, 4]), {},
         Err(tm.TimestampError, "expected datetimes or text", column="timestamp")),

@@ -136,7 +136,11 @@ class Labels:
     valid: np.ndarray | None = None
 
 
-def _labels_from_ints(values: np.ndarray, valid: np.ndarray | None) -> Labels:
+def _labels_from_ints(values: np.ndarray, valid: np.ndarray | None, name: str) -> Labels:
+    if values.dtype == np.uint64 and len(values):
+        # int64 codes would wrap 2**63 and above around to negative ids
+        _check_u64(values[valid].max() if valid is not None and valid.any() else values.max(),
+                   name)
     codes, uniq = _core.factorize_i64(np.ascontiguousarray(values, dtype=np.int64), valid)
     return Labels(codes, uniq.astype(str).tolist(), uniq, valid)
 
@@ -155,11 +159,11 @@ def encode_labels(col: Any, kind: str, name: str) -> Labels:
             cats = np.asarray(col.cat.categories, dtype=object)[used]
             return Labels(c, [str(x) for x in cats], cats, valid)
         if dt.kind in "iu" and not isinstance(dt, pd.api.extensions.ExtensionDtype):
-            return _labels_from_ints(col.to_numpy(), None)
+            return _labels_from_ints(col.to_numpy(), None, name)
         if isinstance(dt, pd.api.extensions.ExtensionDtype) and dt.kind in "iu":
             valid = ~col.isna().to_numpy()
-            vals = col.to_numpy(dtype=np.int64, na_value=0)
-            return _labels_from_ints(vals, None if valid.all() else valid)
+            vals = col.to_numpy(dtype=np.uint64 if dt.kind == "u" else np.int64, na_value=0)
+            return _labels_from_ints(vals, None if valid.all() else valid, name)
         try:
             pa = importlib.import_module("pyarrow")
             if getattr(dt, "storage", None) == "pyarrow" or isinstance(dt, pd.ArrowDtype):
@@ -177,8 +181,9 @@ def encode_labels(col: Any, kind: str, name: str) -> Labels:
         dt = col.dtype
         if dt.is_integer():
             valid = None if col.null_count() == 0 else col.is_not_null().to_numpy()
+            _check_u64(col.max() if len(col) else 0, name)
             vals = col.fill_null(0).cast(pl.Int64).to_numpy()
-            return _labels_from_ints(vals, valid)
+            return _labels_from_ints(vals, valid, name)
         try:
             codes, names, valid = _encode_arrow_text(col.cast(pl.String).to_arrow(), name)
             return Labels(codes, names, np.asarray(names, dtype=object), valid)
@@ -197,8 +202,10 @@ def encode_labels(col: Any, kind: str, name: str) -> Labels:
     t = arr.type
     if pa.types.is_integer(t):
         valid = None if arr.null_count == 0 else arr.is_valid().to_numpy(zero_copy_only=False)
+        if pa.types.is_uint64(t):
+            _check_u64(importlib.import_module("pyarrow.compute").max(arr).as_py(), name)
         vals = arr.fill_null(0).cast(pa.int64()).to_numpy(zero_copy_only=False)
-        return _labels_from_ints(vals, valid)
+        return _labels_from_ints(vals, valid, name)
     try:
         codes, names, valid = _encode_arrow_text(arr, name)
     except TypeError:
