@@ -138,6 +138,23 @@ pub struct ActivityTimes {
     pub service_median: Vec<f64>,
 }
 
+/// Linear-interpolation quantile of an unsorted slice by selection (reorders `v`); equal to
+/// [`quantile_sorted`] of the sorted slice.
+pub fn quantile_select(v: &mut [i64], q: f64) -> f64 {
+    if v.is_empty() {
+        return f64::NAN;
+    }
+    let pos = q * (v.len() - 1) as f64;
+    let lo = pos.floor() as usize;
+    let frac = pos - lo as f64;
+    let (_, a, rest) = v.select_nth_unstable(lo);
+    let a = *a as f64;
+    match rest.iter().min() {
+        Some(&b) if frac > 0.0 => a + (b as f64 - a) * frac,
+        _ => a,
+    }
+}
+
 /// Linear-interpolation quantile of a sorted slice (numpy's default method).
 pub fn quantile_sorted(v: &[i64], q: f64) -> f64 {
     if v.is_empty() {
@@ -163,7 +180,11 @@ fn mean_i64(v: &[i64]) -> f64 {
 
 /// Group `values` by `keys` (each `< n_keys`) with a parallel counting sort; returns CSR offsets
 /// and the grouped values, each group in input order.
-pub(crate) fn group_by_key(keys: &[u32], values: &[i64], n_keys: usize) -> (Vec<usize>, Vec<i64>) {
+pub(crate) fn group_by_key<T: Copy + Default + Send + Sync>(
+    keys: &[u32],
+    values: &[T],
+    n_keys: usize,
+) -> (Vec<usize>, Vec<T>) {
     let n = keys.len();
     let n_chunks = rayon::current_num_threads().max(1) * 4;
     let chunk = n.div_ceil(n_chunks).max(1 << 16);
@@ -189,7 +210,7 @@ pub(crate) fn group_by_key(keys: &[u32], values: &[i64], n_keys: usize) -> (Vec<
         }
     }
     offsets[n_keys] = acc;
-    let mut out = vec![0i64; n];
+    let mut out = vec![T::default(); n];
     let out_ptr = SyncPtr(out.as_mut_ptr());
     keys.par_chunks(chunk)
         .zip(values.par_chunks(chunk))
@@ -354,83 +375,58 @@ impl EventLog {
             })
     }
 
-    /// Pair code and gap of every directly-follows occurrence, in event order.
-    fn df_pairs(&self) -> (Vec<u32>, Vec<i64>, Vec<u32>) {
+    /// Pair code (`from * n_activities + to`) and second event of every directly-follows
+    /// occurrence, in event order.
+    fn df_pairs(&self) -> (Vec<u32>, Vec<u32>) {
         let na = self.activity_names.len() as u32;
-        let n = self.n_events();
-        // Event i (not the first of its case) forms the pair (i-1, i).
-        let mut is_first = vec![false; n];
-        for &o in &self.offsets[..self.n_cases()] {
-            is_first[o] = true;
-        }
-        let chunks: Vec<(Vec<u32>, Vec<i64>, Vec<u32>)> = (1..n)
-            .into_par_iter()
-            .with_min_len(1 << 16)
-            .fold(
-                || (Vec::new(), Vec::new(), Vec::new()),
-                |(mut k, mut g, mut e), i| {
-                    if !is_first[i] {
-                        k.push(self.activity[i - 1] * na + self.activity[i]);
-                        g.push(self.time[i] - self.time[i - 1]);
-                        e.push(i as u32);
-                    }
-                    (k, g, e)
-                },
-            )
-            .collect();
-        let total: usize = chunks.iter().map(|c| c.0.len()).sum();
-        let mut keys = Vec::with_capacity(total);
-        let mut gaps = Vec::with_capacity(total);
-        let mut ev = Vec::with_capacity(total);
-        for (k, g, e) in chunks {
-            keys.extend(k);
-            gaps.extend(g);
-            ev.extend(e);
-        }
-        (keys, gaps, ev)
+        let nc = self.n_cases();
+        // Case c has len - 1 pairs; they start at offsets[c] - c in the output.
+        let pair_off: Vec<usize> = (0..=nc).map(|c| self.offsets[c] - c).collect();
+        let total = pair_off[nc];
+        let mut keys = vec![0u32; total];
+        let mut ev = vec![0u32; total];
+        super::par_chunks_by_offsets(&mut keys, &pair_off)
+            .zip(super::par_chunks_by_offsets(&mut ev, &pair_off))
+            .enumerate()
+            .with_min_len(256)
+            .for_each(|(c, (k, e))| {
+                let s = self.offsets[c];
+                for j in 0..k.len() {
+                    let i = s + j + 1;
+                    k[j] = self.activity[i - 1] * na + self.activity[i];
+                    e[j] = i as u32;
+                }
+            });
+        (keys, ev)
     }
 
     /// Directly-follows pairs with counts and gap statistics.
     pub fn directly_follows(&self) -> DirectlyFollows {
         let na = self.activity_names.len();
         let nk = na * na;
-        let (keys, gaps, ev) = self.df_pairs();
-        // Case index of each pair, for the distinct-case count.
+        let (keys, ev) = self.df_pairs();
+        // Group the second event of every pair by pair code; events stay in log order within a
+        // group, so the gaps and the distinct cases can be read off each group directly.
+        let (off, grouped) = group_by_key(&keys, &ev, nk);
+        drop(keys);
         let case_of_event = self.case_of_events();
-        let case_vals: Vec<i64> = ev
-            .par_iter()
-            .map(|&i| i64::from(case_of_event[i as usize]))
-            .collect();
-        let (off, mut grouped) = group_by_key(&keys, &gaps, nk);
-        let (_, grouped_cases) = group_by_key(&keys, &case_vals, nk);
         let present: Vec<usize> = (0..nk).filter(|&k| off[k + 1] > off[k]).collect();
-        // Sort each group's gaps for the percentiles.
-        let mut groups: Vec<&mut [i64]> = Vec::with_capacity(present.len());
-        {
-            let mut rest: &mut [i64] = &mut grouped;
-            let mut pos = 0usize;
-            for &k in &present {
-                let (_, r) = std::mem::take(&mut rest).split_at_mut(off[k] - pos);
-                let (g, r2) = r.split_at_mut(off[k + 1] - off[k]);
-                groups.push(g);
-                rest = r2;
-                pos = off[k + 1];
-            }
-        }
-        let stats: Vec<(f64, f64, f64)> = groups
-            .into_par_iter()
-            .map(|g| {
-                let m = mean_i64(g);
-                g.sort_unstable();
-                (m, quantile_sorted(g, 0.5), quantile_sorted(g, 0.9))
-            })
-            .collect();
-        let ncases: Vec<u64> = present
+        let stats: Vec<(u64, f64, f64, f64)> = present
             .par_iter()
             .map(|&k| {
-                let cs = &grouped_cases[off[k]..off[k + 1]];
-                // Cases appear in event order, so equal cases are adjacent.
-                1 + cs.windows(2).filter(|w| w[0] != w[1]).count() as u64
+                let evs = &grouped[off[k]..off[k + 1]];
+                let mut gaps: Vec<i64> = evs
+                    .iter()
+                    .map(|&i| self.time[i as usize] - self.time[i as usize - 1])
+                    .collect();
+                let cases = 1 + evs
+                    .windows(2)
+                    .filter(|w| case_of_event[w[0] as usize] != case_of_event[w[1] as usize])
+                    .count() as u64;
+                let m = mean_i64(&gaps);
+                let med = quantile_select(&mut gaps, 0.5);
+                let p90 = quantile_select(&mut gaps, 0.9);
+                (cases, m, med, p90)
             })
             .collect();
         DirectlyFollows {
@@ -440,10 +436,10 @@ impl EventLog {
                 .iter()
                 .map(|&k| (off[k + 1] - off[k]) as u64)
                 .collect(),
-            cases: ncases,
-            mean: stats.iter().map(|s| s.0).collect(),
-            median: stats.iter().map(|s| s.1).collect(),
-            p90: stats.iter().map(|s| s.2).collect(),
+            cases: stats.iter().map(|s| s.0).collect(),
+            mean: stats.iter().map(|s| s.1).collect(),
+            median: stats.iter().map(|s| s.2).collect(),
+            p90: stats.iter().map(|s| s.3).collect(),
         }
     }
 
@@ -713,6 +709,27 @@ mod tests {
         assert!((df.p90[ab] - (3.0 + 0.8 * 7.0)).abs() < 1e-12);
         let m = log.df_matrix();
         assert_eq!(m, vec![0, 3, 1, 0]);
+    }
+
+    #[test]
+    fn quantile_select_equals_sorted() {
+        let mut x: u64 = 7;
+        for n in 1..60 {
+            let v: Vec<i64> = (0..n)
+                .map(|_| {
+                    x = x
+                        .wrapping_mul(6364136223846793005)
+                        .wrapping_add(1442695040888963407);
+                    ((x >> 40) % 50) as i64
+                })
+                .collect();
+            let mut sorted = v.clone();
+            sorted.sort_unstable();
+            for q in [0.0, 0.1, 0.5, 0.9, 1.0] {
+                let mut w = v.clone();
+                assert_eq!(quantile_select(&mut w, q), quantile_sorted(&sorted, q));
+            }
+        }
     }
 
     #[test]

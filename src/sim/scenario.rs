@@ -246,7 +246,7 @@ mod tests {
         let mut wait: std::collections::HashMap<&str, (f64, usize)> = Default::default();
         let parts = names.iter().position(|n| n == "Parts arrive").unwrap() as u32;
         let (mut with_parts, mut without) = ((0.0, 0usize), (0.0, 0usize));
-        let mut by_seg = vec![(0.0, 0usize); 4];
+        let mut by_seg = [(0.0, 0usize); 4];
         for c in 0..log.n_cases() {
             let off = log.offsets()[c];
             let times = log.trace_times(c);
