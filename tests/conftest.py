@@ -19,8 +19,9 @@ from typing import Any
 import numpy as np
 import pandas as pd
 import pytest
-import tracemill as tm
 from hypothesis import HealthCheck, settings
+
+import tracemill as tm
 
 # --------------------------------------------------------------------------- hypothesis profiles
 

@@ -14,6 +14,7 @@ import networkx as nx
 import numpy as np
 import pandas as pd
 import pytest
+
 import tracemill as tm
 
 L = [("abcdf", 4), ("acbdf", 3), ("abcef", 2), ("acbef", 1)]

@@ -19,9 +19,10 @@ import pandas as pd
 import polars as pl
 import pyarrow as pa
 import pytest
+from conftest import SHAPES, build, random_event_frame
+
 import tracemill as tm
 import tracemill.exceptions as tme
-from conftest import SHAPES, build, random_event_frame
 from tracemill import _core
 
 
@@ -349,8 +350,6 @@ def test_progress_callback_exception_stops_the_kernel() -> None:
     assert 0 < calls[0][0] <= calls[1][0] < 500
 
 
-@pytest.mark.xfail(reason="the run helper (src/python/run.rs) calls the progress callback once "
-                   "more after it raised, while the cancelled kernel winds down")
 def test_progress_callback_is_not_called_after_it_raised() -> None:
     calls: list[int] = []
 

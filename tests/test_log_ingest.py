@@ -16,8 +16,9 @@ import pandas as pd
 import polars as pl
 import pyarrow as pa
 import pytest
-import tracemill as tm
 from conftest import SHAPES, build, random_event_frame, to_ns, values_of
+
+import tracemill as tm
 
 SHAPES_BY_NAME = {s.name: s for s in SHAPES}
 

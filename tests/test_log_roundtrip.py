@@ -24,11 +24,12 @@ import pandas as pd
 import polars as pl
 import pyarrow as pa
 import pytest
-import tracemill as tm
 from conftest import SHAPES, build, random_event_frame, values_of
 from hypothesis import given
 from hypothesis import strategies as st
 from strategies import event_frames
+
+import tracemill as tm
 
 
 def expected(frame: pd.DataFrame, spec: dict) -> dict[str, list[object]]:

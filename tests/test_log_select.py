@@ -9,9 +9,10 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 import pytest
-import tracemill as tm
 from conftest import SHAPES, build, random_event_frame
 from scipy import stats
+
+import tracemill as tm
 
 SEL_SHAPES = [s for s in SHAPES if s.name in ("equal_times", "unsorted_int_ids")]
 

@@ -22,9 +22,9 @@ def _hours(ns: float) -> str:
 
 def _table(rows: list[list[str]], header: list[str]) -> str:
     widths = [max(len(str(r[i])) for r in [header, *rows]) for i in range(len(header))]
-    line = "  ".join(h.ljust(w) for h, w in zip(header, widths))
+    line = "  ".join(h.ljust(w) for h, w in zip(header, widths, strict=False))
     out = [line, "  ".join("-" * w for w in widths)]
-    out += ["  ".join(str(c).ljust(w) for c, w in zip(r, widths)) for r in rows]
+    out += ["  ".join(str(c).ljust(w) for c, w in zip(r, widths, strict=False)) for r in rows]
     return "\n".join("  " + x for x in out)
 
 
@@ -53,7 +53,7 @@ def summarise(log: EventLog, top: int = 5) -> str:
     dur = ct["duration"].to_numpy().astype(np.int64)
     qs = np.percentile(dur, [10, 25, 50, 75, 90, 99])
     parts.append("\nCase duration percentiles: " + ", ".join(
-        f"p{p} {_hours(q)}" for p, q in zip([10, 25, 50, 75, 90, 99], qs)))
+        f"p{p} {_hours(q)}" for p, q in zip([10, 25, 50, 75, 90, 99], qs, strict=False)))
     df = log.directly_follows().sort_values("count", ascending=False).head(top)
     rows = [[f"{r.source} > {r.target}", f"{r.count:,}",
              _hours(r.median_gap.value), _hours(r.p90_gap.value)] for r in df.itertuples()]

@@ -453,12 +453,17 @@ class EventLog:
     def with_lifecycle(self, *transitions: str) -> EventLog:
         """Only the events whose lifecycle transition is one of ``transitions`` (e.g.
         ``"complete"``), so that variants and directly-follows relations count each activity
-        instance once. Events with a null transition are dropped too."""
+        instance once. Names compare case-insensitively; events with a null transition are
+        dropped too."""
         t = self._h.lifecycle()
         if t is None:
-            raise SchemaError("the log has no lifecycle column")
+            err = SchemaError("the log has no lifecycle column")
+            err.column = "lifecycle"
+            raise err
         _name, _kind, codes, valid, names = t
-        wanted = np.isin(np.asarray(names, dtype=object), list(transitions))
+        # Transitions compare case-insensitively, as the service-time view does.
+        lowered = np.asarray([str(n).lower() for n in names], dtype=object)
+        wanted = np.isin(lowered, [t.lower() for t in transitions])
         keep = wanted[codes] if len(names) else np.zeros(len(codes), dtype=bool)
         if valid is not None:
             keep &= valid

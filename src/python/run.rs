@@ -1,8 +1,8 @@
 //! One helper for running kernels from Python: release the GIL, stop on Ctrl-C, report
 //! progress, and turn a panic into a `tracemill.exceptions.InternalError`.
 //!
-//! The kernel runs on a scoped worker thread with the GIL released. The calling thread waits in
-//! slices of about 100 ms; after each slice it re-attaches to the interpreter, checks for signals
+//! The kernel runs on a scoped worker thread with the GIL released. The calling thread waits on a
+//! channel for the result (so short kernels return at once); every 100 ms it re-attaches to the interpreter, checks for signals
 //! (Ctrl-C cancels the kernel through its [`Control`]) and calls the progress callback, if any,
 //! with `(done, total)`. Rayon workers never call Python.
 
@@ -25,8 +25,10 @@ where
     let mut py_err: Option<PyErr> = None;
     let out: TmResult<T> = py.detach(|| {
         std::thread::scope(|s| {
-            let handle = s.spawn(|| {
-                catch_unwind(AssertUnwindSafe(|| f(&ctl))).unwrap_or_else(|p| {
+            let (tx, rx) = std::sync::mpsc::channel::<TmResult<T>>();
+            let ctl_ref = &ctl;
+            s.spawn(move || {
+                let res = catch_unwind(AssertUnwindSafe(|| f(ctl_ref))).unwrap_or_else(|p| {
                     let what = p
                         .downcast_ref::<&str>()
                         .map(|s| (*s).to_string())
@@ -35,36 +37,39 @@ where
                     Err(TmError::Internal {
                         message: format!("internal error: {what}"),
                     })
-                })
+                });
+                // The receiver outlives this scoped thread, so the send cannot fail.
+                let _ = tx.send(res);
             });
-            let mut waited = 0u32;
-            while !handle.is_finished() {
-                std::thread::sleep(Duration::from_millis(if waited < 20 { 5 } else { 100 }));
-                waited += 1;
-                if waited < 20 {
+            loop {
+                match rx.recv_timeout(Duration::from_millis(100)) {
+                    Ok(res) => return res,
+                    Err(std::sync::mpsc::RecvTimeoutError::Disconnected) => {
+                        return Err(TmError::Internal {
+                            message: "internal error: worker thread failed".into(),
+                        })
+                    }
+                    Err(std::sync::mpsc::RecvTimeoutError::Timeout) => {}
+                }
+                if py_err.is_some() {
+                    // Cancelled: wait for the kernel to notice, without calling Python again.
                     continue;
                 }
                 Python::attach(|py| {
-                    if py_err.is_none() {
-                        if let Err(e) = py.check_signals() {
-                            ctl.cancel();
-                            py_err = Some(e);
-                        }
+                    if let Err(e) = py.check_signals() {
+                        ctl.cancel();
+                        py_err = Some(e);
+                        return;
                     }
                     if let Some(cb) = &progress {
                         let (done, total) = ctl.progress();
                         if let Err(e) = cb.call1(py, (done, total)) {
                             ctl.cancel();
-                            py_err.get_or_insert(e);
+                            py_err = Some(e);
                         }
                     }
                 });
             }
-            handle.join().unwrap_or_else(|_| {
-                Err(TmError::Internal {
-                    message: "internal error: worker thread failed".into(),
-                })
-            })
         })
     });
     if let Some(e) = py_err {

@@ -8,7 +8,9 @@ from collections.abc import Callable
 from typing import Any
 
 
-def best_of(fn: Callable[[], Any], repeat: int = 3, setup: Callable[[], Any] | None = None) -> float:
+def best_of(
+    fn: Callable[..., Any], repeat: int = 3, setup: Callable[[], Any] | None = None
+) -> float:
     """The best wall time of ``repeat`` runs (``setup`` runs untimed before each)."""
     best = float("inf")
     for _ in range(repeat):

@@ -20,6 +20,7 @@ import time
 import numpy as np
 import pandas as pd
 import pytest
+
 import tracemill as tm
 
 pytestmark = pytest.mark.bench

@@ -39,7 +39,7 @@ def _fresh(log):
 
 
 def test_ingest(data):
-    log, _frame, shuffled, pl = data
+    log, _frame, shuffled, _pl = data
     pdf = shuffled.to_pandas()
     t_tm_pl = best_of(lambda: tm.EventLog.from_frame(shuffled, case="case", activity="activity",
                                                      timestamp="timestamp"), repeat=2)
