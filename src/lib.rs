@@ -5,13 +5,15 @@
 //!
 //! * [`log`]: the event log, its derived views and selections;
 //! * [`control`]: cancellation and progress for long kernels;
-//! * [`error`]: the error type shared by all kernels.
+//! * [`error`]: the error type shared by all kernels;
+//! * [`xes`]: IEEE 1849 XES reading and writing.
 
 #![warn(missing_docs)]
 
 pub mod control;
 pub mod error;
 pub mod log;
+pub mod xes;
 
 #[cfg(feature = "python")]
 mod python;

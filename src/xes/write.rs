@@ -1,0 +1,455 @@
+//! XES writer: an [`EventLog`] as an IEEE 1849-2016 document.
+//!
+//! The output has the shape the standard defines (IEEE 1849-2016, section 5):
+//!
+//! ```text
+//! <?xml version="1.0" encoding="UTF-8"?>
+//! <log xes.version="1849-2016" xes.features="nested-attributes" xmlns="http://www.xes-standard.org/">
+//!   <extension name="Concept" prefix="concept" uri="http://www.xes-standard.org/concept.xesext"/>
+//!   ... time, lifecycle, org ...
+//!   <global scope="trace"> concept:name </global>
+//!   <global scope="event"> concept:name, time:timestamp </global>
+//!   <classifier name="activity" keys="concept:name"/>
+//!   <trace>
+//!     <string key="concept:name" value="case label"/>   then the case attributes
+//!     <event>
+//!       concept:name, time:timestamp, org:resource, lifecycle:transition, event attributes
+//!     </event>
+//!   </trace>
+//! </log>
+//! ```
+//!
+//! Column types map to XES types as text → `string`, `i64` → `int`, `f64` → `float`,
+//! bool → `boolean`, time → `date`; a null is written as an absent attribute. Floats use the
+//! shortest decimal that parses back to the same `f64` (and `NaN`, `INF`, `-INF` as
+//! `xs:double` spells them), dates keep all nanoseconds, so [`super::read_xes`] gives back the
+//! same log. Dotted keys (flattened nested attributes) are written as they are.
+//!
+//! Text is escaped for XML (`&`, `<`, `>`, `"`, `'`; tab, CR and LF as character references so
+//! that attribute-value normalisation does not turn them into spaces). Characters XML 1.0 cannot
+//! carry at all (other C0 controls, U+FFFE, U+FFFF) make the writer fail with an error naming
+//! the case and the attribute, rather than write a file no parser would accept.
+//!
+//! An all-null attribute column leaves no trace in the file (XES has no way to declare an
+//! attribute without a value), and `id` or `container` types are never written.
+
+use std::fs::File;
+use std::io::{BufWriter, Write};
+use std::path::Path;
+
+use flate2::write::GzEncoder;
+use flate2::Compression;
+
+use super::read::{
+    push_f64, xml_char_ok, XesValue, KEY_LIFECYCLE, KEY_NAME, KEY_RESOURCE, KEY_TIME,
+};
+use super::time::format_ns_into;
+use crate::error::{TmError, TmResult};
+use crate::log::{Column, EventLog, Values};
+
+/// Options of [`write_xes`].
+#[derive(Debug, Clone)]
+pub struct XesWriteOptions {
+    /// A log-level `concept:name`; default `None` (not written).
+    pub log_name: Option<String>,
+    /// Further log-level attributes, written in order after the name; default empty.
+    pub log_attributes: Vec<(String, XesValue)>,
+    /// Declare `concept:name` (traces and events) and `time:timestamp` (events) as globals;
+    /// default `true`. Every trace and event written carries them.
+    pub write_globals: bool,
+    /// gzip level 0–9 used by [`write_xes_path`] for `.gz` paths; default 6.
+    pub gzip_level: u32,
+}
+
+impl Default for XesWriteOptions {
+    fn default() -> Self {
+        XesWriteOptions {
+            log_name: None,
+            log_attributes: Vec::new(),
+            write_globals: true,
+            gzip_level: 6,
+        }
+    }
+}
+
+/// Bytes buffered before they are handed to the underlying writer.
+const FLUSH_AT: usize = 1 << 16;
+
+/// The standard extensions used by the writer: name, prefix, definition URI.
+const EXTENSIONS: [(&str, &str, &str); 4] = [
+    (
+        "Concept",
+        "concept",
+        "http://www.xes-standard.org/concept.xesext",
+    ),
+    ("Time", "time", "http://www.xes-standard.org/time.xesext"),
+    (
+        "Lifecycle",
+        "lifecycle",
+        "http://www.xes-standard.org/lifecycle.xesext",
+    ),
+    (
+        "Organizational",
+        "org",
+        "http://www.xes-standard.org/org.xesext",
+    ),
+];
+
+/// Append `s` escaped for an XML attribute value; `Err(c)` for a character XML cannot carry.
+fn escape_into(out: &mut Vec<u8>, s: &str) -> Result<(), char> {
+    let clean = s
+        .bytes()
+        .all(|b| b >= 0x20 && !matches!(b, b'&' | b'<' | b'>' | b'"' | b'\'' | 0xEF));
+    if clean {
+        out.extend_from_slice(s.as_bytes());
+        return Ok(());
+    }
+    for c in s.chars() {
+        match c {
+            '&' => out.extend_from_slice(b"&amp;"),
+            '<' => out.extend_from_slice(b"&lt;"),
+            '>' => out.extend_from_slice(b"&gt;"),
+            '"' => out.extend_from_slice(b"&quot;"),
+            '\'' => out.extend_from_slice(b"&apos;"),
+            '\t' => out.extend_from_slice(b"&#9;"),
+            '\n' => out.extend_from_slice(b"&#10;"),
+            '\r' => out.extend_from_slice(b"&#13;"),
+            c if xml_char_ok(c) => {
+                let mut tmp = [0u8; 4];
+                out.extend_from_slice(c.encode_utf8(&mut tmp).as_bytes());
+            }
+            c => return Err(c),
+        }
+    }
+    Ok(())
+}
+
+/// A dictionary escaped once, so that each event only copies bytes.
+fn escape_dict(dict: &[String]) -> Vec<Result<Vec<u8>, char>> {
+    dict.iter()
+        .map(|s| {
+            let mut v = Vec::with_capacity(s.len());
+            escape_into(&mut v, s).map(|()| v)
+        })
+        .collect()
+}
+
+fn bad_char(c: char, what: &str, case: &str) -> TmError {
+    TmError::data(format!(
+        "cannot write XES: {what} of case '{}' contains the character U+{:04X}, which XML 1.0 \
+         cannot represent; remove or replace it first",
+        case.escape_debug(),
+        u32::from(c)
+    ))
+}
+
+/// A column prepared for writing: its key escaped, its dictionary escaped.
+struct Prepared<'a> {
+    col: &'a Column,
+    key: Vec<u8>,
+    dict: Vec<Result<Vec<u8>, char>>,
+}
+
+fn prepare<'a>(cols: &'a [Column], reserved: &[&str], scope: &str) -> TmResult<Vec<Prepared<'a>>> {
+    cols.iter()
+        .map(|col| {
+            if reserved.contains(&col.name.as_str()) {
+                return Err(TmError::schema(
+                    col.name.clone(),
+                    None,
+                    format!(
+                        "cannot write XES: the {scope} attribute '{}' has the name of a key the \
+                         writer fills itself; rename the column",
+                        col.name
+                    ),
+                ));
+            }
+            let mut key = Vec::new();
+            escape_into(&mut key, &col.name).map_err(|c| {
+                TmError::schema(
+                    col.name.clone(),
+                    None,
+                    format!(
+                        "cannot write XES: the {scope} attribute name '{}' contains U+{:04X}, \
+                         which XML 1.0 cannot represent",
+                        col.name.escape_debug(),
+                        u32::from(c)
+                    ),
+                )
+            })?;
+            let dict = match &col.values {
+                Values::Cat { dict, .. } => escape_dict(dict),
+                _ => Vec::new(),
+            };
+            Ok(Prepared { col, key, dict })
+        })
+        .collect()
+}
+
+struct Out<W: Write> {
+    w: W,
+    buf: Vec<u8>,
+}
+
+impl<W: Write> Out<W> {
+    fn raw(&mut self, b: &[u8]) {
+        self.buf.extend_from_slice(b);
+    }
+    fn maybe_flush(&mut self) -> TmResult<()> {
+        if self.buf.len() >= FLUSH_AT {
+            self.flush_buf()?;
+        }
+        Ok(())
+    }
+    fn flush_buf(&mut self) -> TmResult<()> {
+        self.w.write_all(&self.buf).map_err(|e| TmError::Io {
+            message: format!("writing XES: {e}"),
+        })?;
+        self.buf.clear();
+        Ok(())
+    }
+    /// `<tag key="key" value="` ... the caller writes the value and calls `close_attr`.
+    fn open_attr(&mut self, indent: &[u8], tag: &[u8], key: &[u8]) {
+        self.buf.extend_from_slice(indent);
+        self.buf.push(b'<');
+        self.buf.extend_from_slice(tag);
+        self.buf.extend_from_slice(b" key=\"");
+        self.buf.extend_from_slice(key);
+        self.buf.extend_from_slice(b"\" value=\"");
+    }
+    fn close_attr(&mut self) {
+        self.buf.extend_from_slice(b"\"/>\n");
+    }
+    fn int(&mut self, i: i64) {
+        // Writing to a Vec cannot fail.
+        let _ = write!(self.buf, "{i}");
+    }
+    fn text_attr(&mut self, indent: &[u8], key: &[u8], value: &str) -> Result<(), char> {
+        self.open_attr(indent, b"string", key);
+        escape_into(&mut self.buf, value)?;
+        self.close_attr();
+        Ok(())
+    }
+    /// Write row `i` of a prepared column, if not null.
+    fn cell(&mut self, indent: &[u8], p: &Prepared<'_>, i: usize) -> Result<(), char> {
+        if !p.col.is_valid(i) {
+            return Ok(());
+        }
+        match &p.col.values {
+            Values::Cat { codes, .. } => {
+                let v = p.dict[codes[i] as usize].as_ref().map_err(|&c| c)?;
+                self.open_attr(indent, b"string", &p.key);
+                self.buf.extend_from_slice(v);
+            }
+            Values::I64(v) => {
+                self.open_attr(indent, b"int", &p.key);
+                self.int(v[i]);
+            }
+            Values::F64(v) => {
+                self.open_attr(indent, b"float", &p.key);
+                push_f64(&mut self.buf, v[i]);
+            }
+            Values::Bool(v) => {
+                self.open_attr(indent, b"boolean", &p.key);
+                self.buf
+                    .extend_from_slice(if v[i] { b"true" } else { b"false" });
+            }
+            Values::Time(v) => {
+                self.open_attr(indent, b"date", &p.key);
+                format_ns_into(&mut self.buf, v[i]);
+            }
+        }
+        self.close_attr();
+        Ok(())
+    }
+    fn value(&mut self, indent: &[u8], key: &str, v: &XesValue) -> Result<(), char> {
+        let mut k = Vec::new();
+        escape_into(&mut k, key)?;
+        let tag: &[u8] = match v {
+            XesValue::String(_) => b"string",
+            XesValue::Id(_) => b"id",
+            XesValue::Date(_) => b"date",
+            XesValue::Int(_) => b"int",
+            XesValue::Float(_) => b"float",
+            XesValue::Boolean(_) => b"boolean",
+        };
+        self.open_attr(indent, tag, &k);
+        match v {
+            XesValue::String(s) | XesValue::Id(s) => escape_into(&mut self.buf, s)?,
+            XesValue::Date(t) => format_ns_into(&mut self.buf, *t),
+            XesValue::Int(i) => self.int(*i),
+            XesValue::Float(x) => push_f64(&mut self.buf, *x),
+            XesValue::Boolean(b) => self.raw(if *b { b"true" } else { b"false" }),
+        }
+        self.close_attr();
+        Ok(())
+    }
+}
+
+/// Write `log` as an XES 2016 document to `w` (uncompressed).
+///
+/// Cases come in log order, events in their (time-sorted) case order.
+///
+/// # Errors
+/// [`TmError::Data`] naming the case when a text holds a character XML 1.0 cannot represent;
+/// [`TmError::Schema`] when an attribute column is named like a key the writer fills itself
+/// (`concept:name`, `time:timestamp`, `org:resource`, `lifecycle:transition`);
+/// [`TmError::Io`] when writing fails.
+pub fn write_xes<W: Write>(log: &EventLog, w: W, opts: &XesWriteOptions) -> TmResult<()> {
+    let mut out = Out {
+        w,
+        buf: Vec::with_capacity(FLUSH_AT + 4096),
+    };
+    let case_cols = prepare(log.case_attrs(), &[KEY_NAME], "case")?;
+    let event_cols = prepare(
+        log.event_attrs(),
+        &[KEY_NAME, KEY_TIME, KEY_RESOURCE, KEY_LIFECYCLE],
+        "event",
+    )?;
+    let activities = escape_dict(log.activity_names());
+    let cat_dict = |c: Option<&Column>| match c.map(|c| &c.values) {
+        Some(Values::Cat { dict, .. }) => escape_dict(dict),
+        _ => Vec::new(),
+    };
+    let resource = log.resource();
+    let lifecycle = log.lifecycle();
+    let resource_dict = cat_dict(resource);
+    let lifecycle_dict = cat_dict(lifecycle);
+
+    out.raw(b"<?xml version=\"1.0\" encoding=\"UTF-8\"?>\n");
+    out.raw(
+        b"<log xes.version=\"1849-2016\" xes.features=\"nested-attributes\" \
+          xmlns=\"http://www.xes-standard.org/\">\n",
+    );
+    for (name, prefix, uri) in EXTENSIONS {
+        let _ = writeln!(
+            out.buf,
+            "\t<extension name=\"{name}\" prefix=\"{prefix}\" uri=\"{uri}\"/>"
+        );
+    }
+    if opts.write_globals {
+        out.raw(b"\t<global scope=\"trace\">\n");
+        out.raw(b"\t\t<string key=\"concept:name\" value=\"\"/>\n");
+        out.raw(b"\t</global>\n");
+        out.raw(b"\t<global scope=\"event\">\n");
+        out.raw(b"\t\t<string key=\"concept:name\" value=\"\"/>\n");
+        out.raw(b"\t\t<date key=\"time:timestamp\" value=\"1970-01-01T00:00:00+00:00\"/>\n");
+        out.raw(b"\t</global>\n");
+    }
+    out.raw(b"\t<classifier name=\"activity\" keys=\"concept:name\"/>\n");
+    if lifecycle.is_some() {
+        out.raw(
+            b"\t<classifier name=\"activity and transition\" \
+              keys=\"concept:name lifecycle:transition\"/>\n",
+        );
+    }
+    let log_level = |c| {
+        TmError::data(format!(
+            "cannot write XES: a log-level attribute contains the character U+{:04X}, which \
+             XML 1.0 cannot represent",
+            u32::from(c)
+        ))
+    };
+    if let Some(name) = &opts.log_name {
+        out.text_attr(b"\t", KEY_NAME.as_bytes(), name)
+            .map_err(log_level)?;
+    }
+    for (k, v) in &opts.log_attributes {
+        out.value(b"\t", k, v).map_err(log_level)?;
+    }
+
+    let times = log.times();
+    let acts = log.activities();
+    for c in 0..log.n_cases() {
+        let label = log.case_name(c);
+        out.raw(b"\t<trace>\n");
+        out.text_attr(b"\t\t", KEY_NAME.as_bytes(), label)
+            .map_err(|ch| bad_char(ch, "the label", label))?;
+        for p in &case_cols {
+            out.cell(b"\t\t", p, c)
+                .map_err(|ch| bad_char(ch, &format!("case attribute '{}'", p.col.name), label))?;
+        }
+        let (s, e) = (log.offsets()[c], log.offsets()[c + 1]);
+        for i in s..e {
+            out.raw(b"\t\t<event>\n");
+            let a = activities[acts[i] as usize]
+                .as_ref()
+                .map_err(|&ch| bad_char(ch, "an activity name", label))?;
+            out.open_attr(b"\t\t\t", b"string", KEY_NAME.as_bytes());
+            out.raw(a);
+            out.close_attr();
+            out.open_attr(b"\t\t\t", b"date", KEY_TIME.as_bytes());
+            format_ns_into(&mut out.buf, times[i]);
+            out.close_attr();
+            for (col, dict, key) in [
+                (resource, &resource_dict, KEY_RESOURCE),
+                (lifecycle, &lifecycle_dict, KEY_LIFECYCLE),
+            ] {
+                if let Some(Column {
+                    values: Values::Cat { codes, .. },
+                    ..
+                }) = col
+                {
+                    if col.is_some_and(|c| c.is_valid(i)) {
+                        let v = dict[codes[i] as usize]
+                            .as_ref()
+                            .map_err(|&ch| bad_char(ch, key, label))?;
+                        out.open_attr(b"\t\t\t", b"string", key.as_bytes());
+                        out.raw(v);
+                        out.close_attr();
+                    }
+                }
+            }
+            for p in &event_cols {
+                out.cell(b"\t\t\t", p, i).map_err(|ch| {
+                    bad_char(ch, &format!("event attribute '{}'", p.col.name), label)
+                })?;
+            }
+            out.raw(b"\t\t</event>\n");
+            out.maybe_flush()?;
+        }
+        out.raw(b"\t</trace>\n");
+    }
+    out.raw(b"</log>\n");
+    out.flush_buf()?;
+    out.w.flush().map_err(|e| TmError::Io {
+        message: format!("writing XES: {e}"),
+    })
+}
+
+/// Write `log` to a file; gzip-compressed when the path ends in `.gz`.
+///
+/// # Errors
+/// As [`write_xes`]; [`TmError::Io`] naming the path when it cannot be created.
+pub fn write_xes_path(log: &EventLog, path: impl AsRef<Path>) -> TmResult<()> {
+    write_xes_path_with(log, path, &XesWriteOptions::default())
+}
+
+/// [`write_xes_path`] with options.
+///
+/// # Errors
+/// As [`write_xes_path`].
+pub fn write_xes_path_with(
+    log: &EventLog,
+    path: impl AsRef<Path>,
+    opts: &XesWriteOptions,
+) -> TmResult<()> {
+    let path = path.as_ref();
+    let io = |e: std::io::Error| TmError::Io {
+        message: format!("writing XES file '{}': {e}", path.display()),
+    };
+    let f = File::create(path).map_err(io)?;
+    let w = BufWriter::with_capacity(FLUSH_AT, f);
+    let gz = path
+        .extension()
+        .is_some_and(|e| e.eq_ignore_ascii_case("gz"));
+    if gz {
+        let mut enc = GzEncoder::new(w, Compression::new(opts.gzip_level.min(9)));
+        write_xes(log, &mut enc, opts)?;
+        enc.finish().map_err(io)?.flush().map_err(io)
+    } else {
+        let mut w = w;
+        write_xes(log, &mut w, opts)?;
+        w.flush().map_err(io)
+    }
+}
