@@ -824,7 +824,7 @@ impl ColBuilder {
     }
 
     /// Turn the column into text, rendering every value already stored.
-    fn to_text(&mut self) {
+    fn fall_back_to_text(&mut self) {
         let mut dict = Interner::default();
         let mut tmp = Vec::new();
         let mut text = |v: Val<'_>| -> u32 {
@@ -903,7 +903,7 @@ impl ColBuilder {
             };
             conflicts.push(msg);
             self.fell_back = true;
-            self.to_text();
+            self.fall_back_to_text();
         }
         match (&mut self.store, v) {
             (Store::F64(s), Val::Float(x)) => s.push(x),
@@ -1148,6 +1148,9 @@ struct RawAttrs<'a> {
     i: usize,
 }
 
+/// An XML attribute name and its raw (undecoded) value.
+type NameValue<'a> = (&'a [u8], &'a [u8]);
+
 impl<'a> RawAttrs<'a> {
     fn new(e: &'a BytesStart<'_>) -> Self {
         RawAttrs {
@@ -1163,7 +1166,7 @@ impl<'a> RawAttrs<'a> {
     }
 
     /// The next `(name, raw value)`, `Ok(None)` at the end.
-    fn next_attr(&mut self) -> Result<Option<(&'a [u8], &'a [u8])>, &'static str> {
+    fn next_attr(&mut self) -> Result<Option<NameValue<'a>>, &'static str> {
         self.skip_ws();
         let s = self.s;
         if self.i >= s.len() {
@@ -2614,7 +2617,7 @@ pub(crate) mod tests {
                 rnd() % 40,
                 rnd() % 2 == 0
             );
-            for k in 0..8 {
+            for act in acts {
                 if e == n_events {
                     break;
                 }
@@ -2629,7 +2632,7 @@ pub(crate) mod tests {
                      \t\t\t<string key=\"lifecycle:transition\" value=\"complete\"/>\n\
                      \t\t\t<float key=\"cost:total\" value=\"{}.{}\"/>\n\
                      \t\t</event>\n",
-                    acts[k],
+                    act,
                     String::from_utf8_lossy(&ts),
                     people[(rnd() % 5) as usize],
                     rnd() % 200,

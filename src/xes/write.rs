@@ -453,3 +453,392 @@ pub fn write_xes_path_with(
         w.flush().map_err(io)
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::log::{CaseAttrs, LogInput};
+    use crate::xes::{read_xes_bytes, XesLog};
+    use rand::{Rng, SeedableRng};
+    use rand_xoshiro::Xoshiro256PlusPlus;
+    use std::sync::Arc;
+
+    fn write(log: &EventLog) -> TmResult<String> {
+        let mut out = Vec::new();
+        write_xes(log, &mut out, &XesWriteOptions::default())?;
+        Ok(String::from_utf8(out).unwrap())
+    }
+
+    fn cat(name: &str, dict: &[&str], codes: Vec<u32>, valid: Option<Vec<bool>>) -> Column {
+        Column {
+            name: name.into(),
+            values: Values::Cat {
+                codes,
+                dict: Arc::new(dict.iter().map(|s| (*s).to_string()).collect()),
+            },
+            valid,
+        }
+    }
+
+    fn small_log(label: &str, activity: &str) -> EventLog {
+        let input = LogInput::new(
+            vec![0, 0],
+            vec![label.into()],
+            vec![0, 0],
+            vec![activity.into()],
+            vec![0, 1_500_000_000],
+        );
+        EventLog::build(input).unwrap().0
+    }
+
+    fn f64_text(x: f64) -> String {
+        let mut v = Vec::new();
+        push_f64(&mut v, x);
+        String::from_utf8(v).unwrap()
+    }
+
+    // xs:double lexical forms (XML Schema Part 2, 3.2.5): INF, -INF, NaN, mantissa and
+    // exponent. Shortest round-trip digits are Rust's `{}` / `{:e}` formatting.
+    #[test]
+    fn floats_use_shortest_xs_double_text() {
+        for (x, s) in [
+            (0.1, "0.1"),
+            (-0.0, "-0"),
+            (123_456.0, "123456"),
+            (1e16, "1e16"),
+            (1e300, "1e300"),
+            (5e-324, "5e-324"),
+            (2.5e-6, "2.5e-6"),
+            (f64::NAN, "NaN"),
+            (f64::INFINITY, "INF"),
+            (f64::NEG_INFINITY, "-INF"),
+        ] {
+            assert_eq!(f64_text(x), s);
+        }
+    }
+
+    #[test]
+    fn document_shape_follows_ieee_1849_2016() {
+        let doc = write(&small_log("bike & <co>", "fix \"quoted\" 'brake'\tnow")).unwrap();
+        let lines: Vec<&str> = doc.lines().collect();
+        assert_eq!(lines[0], "<?xml version=\"1.0\" encoding=\"UTF-8\"?>");
+        assert_eq!(
+            lines[1],
+            "<log xes.version=\"1849-2016\" xes.features=\"nested-attributes\" \
+             xmlns=\"http://www.xes-standard.org/\">"
+        );
+        assert!(doc.contains(
+            "<extension name=\"Lifecycle\" prefix=\"lifecycle\" \
+             uri=\"http://www.xes-standard.org/lifecycle.xesext\"/>"
+        ));
+        assert!(doc.contains("<string key=\"concept:name\" value=\"bike &amp; &lt;co&gt;\"/>"));
+        assert!(doc.contains("value=\"fix &quot;quoted&quot; &apos;brake&apos;&#9;now\"/>"));
+        assert!(
+            doc.contains("<date key=\"time:timestamp\" value=\"1970-01-01T00:00:01.5+00:00\"/>")
+        );
+        assert!(doc.ends_with("</log>\n"));
+        let x = read_xes_bytes(doc.as_bytes()).unwrap();
+        assert_eq!(x.input.case_names, ["bike & <co>"]);
+        assert_eq!(x.input.activity_names, ["fix \"quoted\" 'brake'\tnow"]);
+        assert_eq!(x.meta.version.as_deref(), Some("1849-2016"));
+        assert_eq!(x.meta.extensions.len(), 4);
+        assert_eq!(x.meta.classifiers[0].keys, ["concept:name"]);
+    }
+
+    #[test]
+    fn unrepresentable_characters_name_the_case() {
+        let err = write(&small_log("bike\u{1}7", "a")).unwrap_err();
+        assert!(matches!(err, TmError::Data { .. }));
+        assert!(
+            err.to_string().contains("bike\\u{1}7") && err.to_string().contains("U+0001"),
+            "{err}"
+        );
+        let err = write(&small_log("bike-8", "stop\u{FFFF}")).unwrap_err();
+        assert!(
+            err.to_string().contains("'bike-8'") && err.to_string().contains("activity"),
+            "{err}"
+        );
+        // A bad dictionary entry that no event uses does not matter.
+        let mut input = LogInput::new(
+            vec![0],
+            vec!["c".into()],
+            vec![0],
+            vec!["a".into()],
+            vec![0],
+        );
+        input.event_attrs = vec![cat("note", &["ok", "bad\u{0}"], vec![0], None)];
+        let (log, _) = EventLog::build(input).unwrap();
+        assert!(write(&log).is_ok());
+    }
+
+    #[test]
+    fn reserved_attribute_names_are_refused() {
+        let mut input = LogInput::new(
+            vec![0],
+            vec!["c".into()],
+            vec![0],
+            vec!["a".into()],
+            vec![0],
+        );
+        input.event_attrs = vec![Column::new("time:timestamp", Values::I64(vec![1]))];
+        let (log, _) = EventLog::build(input).unwrap();
+        let err = write(&log).unwrap_err();
+        assert!(
+            matches!(err, TmError::Schema { column: Some(ref c), .. } if c == "time:timestamp")
+        );
+    }
+
+    #[test]
+    fn log_level_options_are_written() {
+        let log = small_log("c", "a");
+        let opts = XesWriteOptions {
+            log_name: Some("workshop".into()),
+            log_attributes: vec![
+                ("season".into(), XesValue::String("spring".into())),
+                ("bays".into(), XesValue::Int(3)),
+                ("opened".into(), XesValue::Date(0)),
+                ("rate".into(), XesValue::Float(0.25)),
+                ("busy".into(), XesValue::Boolean(true)),
+                ("uid".into(), XesValue::Id("x-1".into())),
+            ],
+            write_globals: false,
+            gzip_level: 6,
+        };
+        let mut out = Vec::new();
+        write_xes(&log, &mut out, &opts).unwrap();
+        let x = read_xes_bytes(&out).unwrap();
+        assert!(x.meta.globals.is_empty());
+        assert_eq!(
+            x.meta.attributes[0],
+            ("concept:name".into(), XesValue::String("workshop".into()))
+        );
+        assert_eq!(&x.meta.attributes[1..], &opts.log_attributes[..]);
+    }
+
+    #[test]
+    fn path_writer_gzips_by_extension() {
+        let dir = std::env::temp_dir().join(format!("tracemill-xes-write-{}", std::process::id()));
+        std::fs::create_dir_all(&dir).unwrap();
+        let log = small_log("c", "a");
+        for name in ["l.xes", "l.xes.gz"] {
+            let p = dir.join(name);
+            write_xes_path(&log, &p).unwrap();
+            let bytes = std::fs::read(&p).unwrap();
+            assert_eq!(bytes.starts_with(&[0x1f, 0x8b]), name.ends_with(".gz"));
+            let x = crate::xes::read_xes_path(&p).unwrap();
+            assert_eq!(x.input.time, [0, 1_500_000_000]);
+        }
+        std::fs::remove_dir_all(&dir).unwrap();
+    }
+
+    // ---- round trip over random logs -------------------------------------------------------
+
+    const ODD: [&str; 12] = [
+        "plain",
+        "a<b",
+        "x & y",
+        "\"double\" and 'single'",
+        "]]> and -->",
+        "Ünïcödé 🚲 自行车",
+        " padded ",
+        "",
+        "tab\there",
+        "line\nbreak\r\nand cr\r",
+        "&amp; literally",
+        "a.b:c#2",
+    ];
+
+    fn pick<'a>(rng: &mut Xoshiro256PlusPlus, pool: &[&'a str]) -> &'a str {
+        pool[rng.random_range(0..pool.len())]
+    }
+
+    fn mask(rng: &mut Xoshiro256PlusPlus, n: usize) -> Option<Vec<bool>> {
+        if rng.random_bool(0.5) {
+            return None;
+        }
+        let mut m: Vec<bool> = (0..n).map(|_| rng.random_bool(0.6)).collect();
+        m[rng.random_range(0..n)] = true; // an all-null column cannot be written
+        Some(m)
+    }
+
+    fn random_column(rng: &mut Xoshiro256PlusPlus, name: &str, n: usize) -> Column {
+        const FLOATS: [f64; 10] = [
+            0.1,
+            -0.0,
+            1e300,
+            5e-324,
+            f64::NAN,
+            f64::INFINITY,
+            f64::NEG_INFINITY,
+            2.5e-6,
+            -17.25,
+            1e16,
+        ];
+        const INTS: [i64; 5] = [i64::MIN, i64::MAX, 0, -1, 42];
+        let values = match rng.random_range(0..5) {
+            0 => Values::F64(
+                (0..n)
+                    .map(|_| {
+                        if rng.random_bool(0.5) {
+                            FLOATS[rng.random_range(0..FLOATS.len())]
+                        } else {
+                            f64::from_bits(rng.random::<u64>() >> 2)
+                                * if rng.random_bool(0.5) { -1.0 } else { 1.0 }
+                        }
+                    })
+                    .collect(),
+            ),
+            1 => Values::I64(
+                (0..n)
+                    .map(|_| {
+                        if rng.random_bool(0.3) {
+                            INTS[rng.random_range(0..5)]
+                        } else {
+                            rng.random()
+                        }
+                    })
+                    .collect(),
+            ),
+            2 => Values::Bool((0..n).map(|_| rng.random_bool(0.5)).collect()),
+            3 => Values::Time((0..n).map(|_| rng.random()).collect()),
+            _ => Values::Cat {
+                codes: (0..n)
+                    .map(|_| rng.random_range(0..ODD.len() as u32))
+                    .collect(),
+                dict: Arc::new(ODD.iter().map(|s| (*s).to_string()).collect()),
+            },
+        };
+        let valid = mask(rng, n);
+        Column {
+            name: name.into(),
+            values,
+            valid,
+        }
+    }
+
+    fn random_log(rng: &mut Xoshiro256PlusPlus) -> EventLog {
+        let n_cases = rng.random_range(1..6);
+        let mut input = LogInput::default();
+        let acts = [
+            "register",
+            "a<b",
+            "x & y",
+            "Ünïcödé 🚲",
+            "\"q\"",
+            " ",
+            "line\nbreak",
+        ];
+        input.activity_names = acts.iter().map(|s| (*s).to_string()).collect();
+        let base: i64 = rng.random_range(-4_000_000_000_000_000_000..4_000_000_000_000_000_000);
+        for c in 0..n_cases {
+            input.case_names.push(format!("{}-{c}", pick(rng, &ODD)));
+            for _ in 0..rng.random_range(1..5) {
+                input.case.push(c);
+                input.activity.push(rng.random_range(0..acts.len() as u32));
+                // Equal timestamps are common: draw from a handful of instants.
+                let t = base + rng.random_range(0..4) * rng.random_range(1..1_000_000_000_000i64);
+                input.time.push(t);
+            }
+        }
+        let n = input.case.len();
+        if rng.random_bool(0.7) {
+            let codes = (0..n).map(|_| rng.random_range(0..3)).collect();
+            input.resource = Some(cat("res", &["Ana", "Bo & Co", "Ünï"], codes, mask(rng, n)));
+        }
+        if rng.random_bool(0.5) {
+            let codes = (0..n).map(|_| rng.random_range(0..2)).collect();
+            input.lifecycle = Some(cat("lc", &["start", "complete"], codes, mask(rng, n)));
+        }
+        let names = ["cost", "weird <key> & \"name\"", "part.0", "ride", "when"];
+        input.event_attrs = (0..rng.random_range(0..4))
+            .map(|k| random_column(rng, names[k], n))
+            .collect();
+        let n_cases = n_cases as usize;
+        let cols: Vec<Column> = (0..rng.random_range(0..4))
+            .map(|k| random_column(rng, &format!("case {}", names[k]), n_cases))
+            .collect();
+        if !cols.is_empty() {
+            input.case_attrs = CaseAttrs::PerCase(cols);
+        }
+        EventLog::build(input).unwrap().0
+    }
+
+    fn cells(c: &Column) -> Vec<Option<String>> {
+        (0..c.len())
+            .map(|i| {
+                c.is_valid(i).then(|| match &c.values {
+                    // Compare floats by bits (NaN is the canonical NaN on both sides).
+                    Values::F64(v) => format!("{:016x}", v[i].to_bits()),
+                    other => other.text(i),
+                })
+            })
+            .collect()
+    }
+
+    fn same_columns(a: &[Column], b: &[Column], what: &str) {
+        // The reader orders columns by first appearance in the file, so compare by name.
+        let sorted = |c: &'_ [Column]| {
+            let mut v: Vec<Column> = c.to_vec();
+            v.sort_by(|x, y| x.name.cmp(&y.name));
+            v
+        };
+        let (a, b) = (sorted(a), sorted(b));
+        assert_eq!(a.len(), b.len(), "{what}: {a:?} vs {b:?}");
+        for (x, y) in a.iter().zip(&b) {
+            assert_eq!(x.name, y.name, "{what}");
+            assert_eq!(
+                crate::log::column::type_name(&x.values),
+                crate::log::column::type_name(&y.values),
+                "{what} {}",
+                x.name
+            );
+            assert_eq!(cells(x), cells(y), "{what} {}", x.name);
+        }
+    }
+
+    fn assert_same_log(a: &EventLog, b: &EventLog) {
+        assert_eq!(a.n_cases(), b.n_cases());
+        assert_eq!(a.offsets(), b.offsets());
+        for c in 0..a.n_cases() {
+            assert_eq!(a.case_name(c), b.case_name(c));
+        }
+        let acts = |l: &EventLog| -> Vec<String> {
+            l.activities()
+                .iter()
+                .map(|&x| l.activity_names()[x as usize].clone())
+                .collect()
+        };
+        assert_eq!(acts(a), acts(b));
+        assert_eq!(a.times(), b.times());
+        let opt = |c: Option<&Column>| c.map(cells);
+        assert_eq!(opt(a.resource()), opt(b.resource()));
+        assert_eq!(opt(a.lifecycle()), opt(b.lifecycle()));
+        same_columns(a.event_attrs(), b.event_attrs(), "event");
+        same_columns(a.case_attrs(), b.case_attrs(), "case");
+    }
+
+    #[test]
+    fn round_trip_random_logs() {
+        let mut rng = Xoshiro256PlusPlus::seed_from_u64(1849);
+        for round in 0..300 {
+            let log = random_log(&mut rng);
+            let doc = write(&log).unwrap_or_else(|e| panic!("round {round}: {e}"));
+            let XesLog { input, report, .. } = read_xes_bytes(doc.as_bytes())
+                .unwrap_or_else(|e| panic!("round {round}: {e}\n{doc}"));
+            assert!(
+                report.type_conflicts.is_empty() && report.warnings.is_empty(),
+                "{report:?}"
+            );
+            let (back, b) = EventLog::build(input).unwrap();
+            assert_eq!(b.n_reordered, 0);
+            assert_same_log(&log, &back);
+            // Column order follows first appearance in the file, so the document is a fixed
+            // point from the second write on.
+            let doc2 = write(&back).unwrap();
+            let again = EventLog::build(read_xes_bytes(doc2.as_bytes()).unwrap().input)
+                .unwrap()
+                .0;
+            assert_eq!(write(&again).unwrap(), doc2, "round {round}");
+        }
+    }
+}
