@@ -82,8 +82,9 @@ pub const KEY_RESOURCE: &str = "org:resource";
 /// The XES key of the lifecycle transition; also the name of the lifecycle column.
 pub const KEY_LIFECYCLE: &str = "lifecycle:transition";
 
-/// Events between two polls of the [`Control`] (cancel check and progress).
-const CHECK_EVERY: u64 = 4096;
+/// XML events (tags, text runs) between two polls of the [`Control`] (cancel check and
+/// progress): a few thousand log events.
+const CHECK_EVERY: u64 = 1 << 15;
 /// Size of the read buffer between the (decompressed) input and the XML parser.
 const BUF_SIZE: usize = 1 << 16;
 
@@ -1858,18 +1859,15 @@ impl<'o> Parser<'o> {
                 }
             }
         }
-        if self.report.n_duplicate_labels > 0 {
-            self.warn.note(
-                format!(
-                    "{} traces reuse the concept:name of an earlier trace; they are kept as \
-                     separate cases with the same label",
-                    self.report.n_duplicate_labels
-                ),
-                0,
-            );
-        }
         self.report.n_events = n as u64;
         self.report.warnings = std::mem::take(&mut self.warn).finish();
+        if self.report.n_duplicate_labels > 0 {
+            self.report.warnings.push(format!(
+                "{} traces reuse the concept:name of an earlier trace; they are kept as \
+                 separate cases with the same label",
+                self.report.n_duplicate_labels
+            ));
+        }
         let resource = self.resource.finish(n);
         let lifecycle = self.lifecycle.finish(n);
         let event_attrs = self.event_cols.finish(n);
@@ -1949,6 +1947,7 @@ fn read_impl<R: BufRead>(
     }
     let mut p = Parser::new(opts);
     let mut buf: Vec<u8> = Vec::with_capacity(4096);
+    let mut n_xml_events = 0u64;
     let mut next_check = CHECK_EVERY;
     let mut reported = 0u64;
     loop {
@@ -1973,7 +1972,8 @@ fn read_impl<R: BufRead>(
             Event::Comment(_) | Event::Decl(_) | Event::PI(_) => {}
             Event::Eof => break,
         }
-        if p.activity.len() as u64 >= next_check {
+        n_xml_events += 1;
+        if n_xml_events >= next_check {
             next_check += CHECK_EVERY;
             ctl.check()?;
             let now = consumed.get();
@@ -2422,6 +2422,29 @@ pub(crate) mod tests {
         let x = read(&format!("<log>{t}{t}</log>")).unwrap();
         assert_eq!(x.input.case_names, ["same", "same"]);
         assert_eq!(x.report.n_duplicate_labels, 1);
+        assert!(
+            x.report.warnings[0].starts_with("1 traces reuse"),
+            "{:?}",
+            x.report.warnings
+        );
+    }
+
+    #[test]
+    fn trace_label_and_attributes_may_follow_the_events() {
+        let e = "<event><string key=\"concept:name\" value=\"a\"/>\
+                 <date key=\"time:timestamp\" value=\"2024-03-04T11:00:00Z\"/></event>";
+        let doc = format!(
+            "<log><trace>{e}<string key=\"concept:name\" value=\"late\"/><int key=\"n\" value=\"1\"/></trace>\
+             <trace><int key=\"n\" value=\"2\"/></trace>\
+             <trace><int key=\"n\" value=\"oops\"/>{e}</trace></log>"
+        );
+        let x = read(&doc).unwrap();
+        assert_eq!(x.input.case_names, ["late", "trace-2"]);
+        assert_eq!(x.report.n_empty_traces, 1);
+        // The empty trace's value is gone with its trace; the bad int turns the column to text.
+        let n = col(case_cols(&x), "n");
+        assert_eq!(texts(n), [Some("1".into()), Some("oops".into())]);
+        assert_eq!(x.report.type_conflicts.len(), 1);
     }
 
     // Hostile input: XML 1.0 section 4.2 entities are never expanded.

@@ -841,4 +841,29 @@ mod tests {
             assert_eq!(write(&again).unwrap(), doc2, "round {round}");
         }
     }
+
+    /// Writer throughput; run with
+    /// `cargo test --release -- --ignored --nocapture xes_write_throughput`.
+    #[test]
+    #[ignore]
+    fn xes_write_throughput() {
+        use crate::xes::read::tests::{synthetic_xes, timed};
+        let doc = synthetic_xes(200_000, 42);
+        let (log, _) = EventLog::build(read_xes_bytes(&doc).unwrap().input).unwrap();
+        let mut out = Vec::with_capacity(doc.len() + (1 << 20));
+        let mut best = (f64::INFINITY, f64::INFINITY);
+        for _ in 0..5 {
+            out.clear();
+            let (w, c) = timed(|| write_xes(&log, &mut out, &XesWriteOptions::default()).unwrap());
+            best = (best.0.min(w), best.1.min(c.unwrap_or(w)));
+        }
+        let mb = out.len() as f64 / 1e6;
+        println!(
+            "XES write: {mb:.1} MB, 200000 events: {:.3} s wall = {:.0} MB/s; {:.3} s CPU = {:.0} MB/s",
+            best.0,
+            mb / best.0,
+            best.1,
+            mb / best.1
+        );
+    }
 }
