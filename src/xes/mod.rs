@@ -37,6 +37,8 @@
 //! Reference: IEEE Std 1849-2016, *IEEE Standard for eXtensible Event Stream (XES) for
 //! Achieving Interoperability in Event Logs and Event Streams*; IEEE Std 1849-2023.
 
+mod columns;
+mod input;
 pub mod read;
 pub mod time;
 pub mod write;

@@ -40,9 +40,9 @@ use std::path::Path;
 use flate2::write::GzEncoder;
 use flate2::Compression;
 
-use super::read::{
-    push_f64, xml_char_ok, XesValue, KEY_LIFECYCLE, KEY_NAME, KEY_RESOURCE, KEY_TIME,
-};
+use super::columns::push_f64;
+use super::input::xml_char_ok;
+use super::read::{XesValue, KEY_LIFECYCLE, KEY_NAME, KEY_RESOURCE, KEY_TIME};
 use super::time::format_ns_into;
 use crate::error::{TmError, TmResult};
 use crate::log::{Column, EventLog, Values};
