@@ -450,3 +450,102 @@ impl Warnings {
             .collect()
     }
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn set(c: &mut ColBuilder, row: usize, ty: XesType, raw: &str, conflicts: &mut Vec<String>) {
+        c.set(
+            row,
+            parse_val(ty, raw.as_bytes()),
+            ty,
+            row as u64 + 1,
+            "event attribute",
+            conflicts,
+        )
+        .unwrap();
+    }
+
+    #[test]
+    fn first_value_types_the_column_and_nulls_are_padded() {
+        let mut c = ColBuilder::new("size".into(), false);
+        let mut conflicts = Vec::new();
+        set(&mut c, 1, XesType::Int, " 42 ", &mut conflicts);
+        set(&mut c, 2, XesType::Int, "-7", &mut conflicts);
+        let col = c.finish(4).unwrap();
+        assert_eq!(col.values, Values::I64(vec![0, 42, -7, 0]));
+        assert_eq!(col.valid, Some(vec![false, true, true, false]));
+        assert!(conflicts.is_empty());
+    }
+
+    #[test]
+    fn a_second_type_turns_the_column_into_text_keeping_every_value() {
+        let mut c = ColBuilder::new("x".into(), false);
+        let mut conflicts = Vec::new();
+        set(&mut c, 0, XesType::Float, "0.1", &mut conflicts);
+        set(
+            &mut c,
+            1,
+            XesType::Date,
+            "2016-02-29T12:00:00+01:00",
+            &mut conflicts,
+        );
+        set(&mut c, 2, XesType::Boolean, "1", &mut conflicts);
+        set(&mut c, 3, XesType::String, "free text", &mut conflicts);
+        let col = c.finish(4).unwrap();
+        let texts: Vec<String> = (0..4).map(|i| col.values.text(i)).collect();
+        assert_eq!(
+            texts,
+            ["0.1", "2016-02-29T11:00:00+00:00", "true", "free text"]
+        );
+        assert_eq!(conflicts.len(), 1, "{conflicts:?}");
+        assert!(conflicts[0].contains("float values (first on line 1) and a date value on line 2"));
+    }
+
+    #[test]
+    fn value_parsers_follow_xml_schema_lexical_forms() {
+        // XML Schema Part 2: boolean is {true, false, 1, 0}; double allows INF, -INF, NaN.
+        assert_eq!(parse_bool(b"1"), Some(true));
+        assert_eq!(parse_bool(b"false"), Some(false));
+        assert_eq!(parse_bool(b"yes"), None);
+        assert_eq!(parse_float(b"-INF"), Some(f64::NEG_INFINITY));
+        assert!(parse_float(b"NaN").is_some_and(f64::is_nan));
+        assert_eq!(parse_float(b"1.5E1"), Some(15.0));
+        assert_eq!(parse_int(b"9223372036854775807"), Some(i64::MAX));
+        assert_eq!(parse_int(b"9223372036854775808"), None);
+        assert_eq!(parse_int(b"1.0"), None);
+        assert!(matches!(
+            parse_val(XesType::Date, b"yesterday"),
+            Val::Bad(_)
+        ));
+    }
+
+    #[test]
+    fn repeated_keys_get_suffixes_and_warnings_aggregate() {
+        let mut cols = Columns::default();
+        let mut rep = XesReport::default();
+        let mut warn = Warnings::default();
+        let a = cols.free_slot(b"k", 0, 1, 0, &mut rep, &mut warn).unwrap();
+        let mut conflicts = Vec::new();
+        set(&mut cols.cols[a], 0, XesType::Int, "1", &mut conflicts);
+        let b = cols.free_slot(b"k", 0, 2, 0, &mut rep, &mut warn).unwrap();
+        assert_eq!(cols.cols[b].name, "k#2");
+        set(&mut cols.cols[b], 0, XesType::Int, "2", &mut conflicts);
+        let c = cols.free_slot(b"k", 0, 3, 0, &mut rep, &mut warn).unwrap();
+        assert_eq!(cols.cols[c].name, "k#3");
+        assert_eq!(rep.n_repeated_keys, 2);
+        let w = warn.finish();
+        assert_eq!(w.len(), 1);
+        assert!(w[0].starts_with("line 2 (and 1 more times):"), "{w:?}");
+    }
+
+    #[test]
+    fn interner_refuses_invalid_utf8_with_the_line() {
+        let mut i = Interner::default();
+        assert_eq!(i.code(b"a", 1, "x").unwrap(), 0);
+        assert_eq!(i.code(b"a", 1, "x").unwrap(), 0);
+        let err = i.code(&[0xff], 9, "an activity").unwrap_err();
+        assert!(matches!(err, TmError::Format { line: Some(9), .. }));
+    }
+}

@@ -477,3 +477,124 @@ pub(super) fn xml_attrs(e: &BytesStart<'_>, line: u64) -> TmResult<Vec<(String, 
     }
     Ok(out)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use quick_xml::events::Event;
+
+    fn source(bytes: &[u8]) -> Source<'_> {
+        Source {
+            inner: Box::new(bytes),
+            buf: vec![0u8; 16].into_boxed_slice(), // tiny, to cross buffer boundaries
+            pos: 0,
+            cap: 0,
+            newlines: 0,
+            gzip: false,
+        }
+    }
+
+    fn rest(mut s: Source<'_>) -> String {
+        let mut out = String::new();
+        s.read_to_string(&mut out).unwrap();
+        out
+    }
+
+    #[test]
+    fn prolog_is_skipped_up_to_the_root_with_lines_counted() {
+        let doc = "\u{feff}<?xml version=\"1.0\"?>\n<!-- a -- b --->\n<?pi ?>\n\n<log/>";
+        let mut s = source(doc.as_bytes());
+        skip_prolog(&mut s).unwrap();
+        assert_eq!(s.line(), 5);
+        assert_eq!(rest(s), "<log/>");
+    }
+
+    #[test]
+    fn prolog_refusals() {
+        for (doc, line) in [
+            ("<!DOCTYPE log>", 1),
+            ("<?xml version=\"1.0\"?>\n\n<!doctype log>", 3),
+            ("<!-- never closed", 1),
+            ("<![CDATA[x]]><log/>", 1),
+            ("text<log/>", 1),
+            ("", 1),
+        ] {
+            let mut s = source(doc.as_bytes());
+            match skip_prolog(&mut s) {
+                Err(TmError::Format { line: Some(l), .. }) => assert_eq!(l, line, "{doc}"),
+                other => panic!("{doc}: {other:?}"),
+            }
+        }
+    }
+
+    // XML 1.0 section 3.3.3 (attribute-value normalisation) and 4.6 (predefined entities).
+    #[test]
+    fn attribute_values_are_decoded_per_xml_1_0() {
+        let d = |s: &str| {
+            unescape_attr(s.as_bytes(), 1).map(|c| String::from_utf8(c.into_owned()).unwrap())
+        };
+        assert_eq!(d("plain").unwrap(), "plain");
+        assert!(matches!(
+            unescape_attr(b"plain", 1).unwrap(),
+            Cow::Borrowed(_)
+        ));
+        assert_eq!(d("&lt;&gt;&amp;&quot;&apos;").unwrap(), "<>&\"'");
+        assert_eq!(d("&#233;&#xE9;&#x1F6B2;").unwrap(), "éé🚲");
+        assert_eq!(d("a\r\nb\rc\nd\te").unwrap(), "a b c d e");
+        assert_eq!(d("&#13;&#10;&#9;").unwrap(), "\r\n\t");
+        for bad in [
+            "&", "&amp", "&nbsp;", "&#xD800;", "&#1;", "&#xFFFE;", "&#;", "&#x;",
+        ] {
+            assert!(d(bad).is_err(), "{bad}");
+        }
+    }
+
+    fn attrs_of(tag: &str) -> Result<Vec<(String, String)>, &'static str> {
+        let mut r = quick_xml::Reader::from_str(tag);
+        let Ok(Event::Empty(e)) = r.read_event() else {
+            panic!("{tag}")
+        };
+        let mut it = RawAttrs::new(&e);
+        let mut out = Vec::new();
+        while let Some((k, v)) = it.next_attr()? {
+            out.push((
+                String::from_utf8(k.to_vec()).unwrap(),
+                String::from_utf8(v.to_vec()).unwrap(),
+            ));
+        }
+        Ok(out)
+    }
+
+    #[test]
+    fn attribute_scanner() {
+        let kv = |k: &str, v: &str| (k.to_string(), v.to_string());
+        assert_eq!(
+            attrs_of("<string key=\"a b\" value='x \"y\"'/>").unwrap(),
+            [kv("key", "a b"), kv("value", "x \"y\"")]
+        );
+        assert_eq!(
+            attrs_of("<s\n key = \"k\"\tvalue=\"\"/>").unwrap(),
+            [kv("key", "k"), kv("value", "")]
+        );
+        for bad in [
+            "<s key/>",
+            "<s key=v/>",
+            "<s key=\"a<b\"/>",
+            "<s key=\"a\"value=\"b\"/>",
+            "<s =\"a\"/>",
+        ] {
+            assert!(attrs_of(bad).is_err(), "{bad}");
+        }
+    }
+
+    #[test]
+    fn newline_counting_and_peek_across_refills() {
+        let text = "a\nb\n\nccccccccccccccccccccccccc\nd";
+        let mut s = source(text.as_bytes());
+        assert!(s.peek(9).unwrap().len() >= 9);
+        s.consume(5);
+        assert_eq!(s.line(), 4);
+        assert_eq!(rest(s), &text[5..]);
+        assert_eq!(count_newlines(text.as_bytes()), 4);
+    }
+}
