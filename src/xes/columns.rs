@@ -11,6 +11,8 @@ use std::collections::HashMap;
 use std::sync::Arc;
 
 use super::input::utf8;
+#[allow(unused_imports)] // for the doc link
+use super::read::XesReadOptions;
 use super::read::{XesReport, XesType, XesValue};
 use super::time::{format_ns_into, parse_datetime_bytes};
 use crate::error::{TmError, TmResult};
@@ -356,17 +358,59 @@ impl ColBuilder {
 }
 
 /// A set of columns addressed by key bytes.
-#[derive(Debug, Default)]
+#[derive(Debug)]
 pub(super) struct Columns {
     pub(super) index: HashMap<Box<[u8]>, usize>,
     pub(super) cols: Vec<ColBuilder>,
+    /// Per repeated key: the row and suffix of its last repeat, so that `m` repeats in one
+    /// element cost `O(m)`, not `O(m^2)`.
+    dup: HashMap<Box<[u8]>, (usize, u32)>,
+    /// Budget of columns × rows (`XesReadOptions::max_attribute_cells`).
+    max_cells: u64,
+    /// "event" or "case", for messages.
+    scope: &'static str,
+}
+
+impl Default for Columns {
+    fn default() -> Self {
+        Columns::new(u64::MAX, "event")
+    }
 }
 
 impl Columns {
-    pub(super) fn get(&mut self, key: &[u8], line: u64) -> TmResult<usize> {
+    pub(super) fn new(max_cells: u64, scope: &'static str) -> Self {
+        Columns {
+            index: HashMap::new(),
+            cols: Vec::new(),
+            dup: HashMap::new(),
+            max_cells,
+            scope,
+        }
+    }
+
+    /// Fail when `n_cols` columns of `n_rows` rows would exceed the cell budget.
+    pub(super) fn check_budget(&self, n_cols: usize, n_rows: usize) -> TmResult<()> {
+        let cells = (n_cols as u64).saturating_mul(n_rows as u64);
+        if cells > self.max_cells {
+            return Err(TmError::Limit {
+                message: format!(
+                    "the XES file has {n_cols} distinct {scope} attribute keys over {n_rows} {scope}s \
+                     ({cells} cells), more than max_attribute_cells = {}; raise it in \
+                     XesReadOptions if the memory is there",
+                    self.max_cells,
+                    scope = self.scope,
+                ),
+            });
+        }
+        Ok(())
+    }
+
+    /// The column for `key`, created if new (`row` is the current row, for the budget).
+    pub(super) fn get(&mut self, key: &[u8], row: usize, line: u64) -> TmResult<usize> {
         if let Some(&i) = self.index.get(key) {
             return Ok(i);
         }
+        self.check_budget(self.cols.len() + 1, row + 1)?;
         let name = utf8(key, line, "an attribute key")?.to_owned();
         let i = self.cols.len();
         self.cols.push(ColBuilder::new(name, false));
@@ -375,6 +419,7 @@ impl Columns {
     }
 
     /// The column for `key` whose row `row` is still free: `key`, else `key#2`, `key#3`, ...
+    /// (`first_suffix >= 2` skips `key` itself, for keys held outside these columns).
     pub(super) fn free_slot(
         &mut self,
         key: &[u8],
@@ -385,7 +430,7 @@ impl Columns {
         warn: &mut Warnings,
     ) -> TmResult<usize> {
         if first_suffix < 2 {
-            let i = self.get(key, line)?;
+            let i = self.get(key, row, line)?;
             if self.cols[i].len() <= row {
                 return Ok(i);
             }
@@ -399,15 +444,19 @@ impl Columns {
             ),
             line,
         );
-        let mut k = first_suffix.max(2);
+        let mut k = match self.dup.get(key) {
+            Some(&(r, last)) if r == row => last + 1,
+            _ => first_suffix.max(2),
+        };
         let mut name = Vec::with_capacity(key.len() + 4);
         loop {
             name.clear();
             name.extend_from_slice(key);
             name.push(b'#');
             name.extend_from_slice(k.to_string().as_bytes());
-            let i = self.get(&name, line)?;
+            let i = self.get(&name, row, line)?;
             if self.cols[i].len() <= row {
+                self.dup.insert(key.into(), (row, k));
                 return Ok(i);
             }
             k += 1;
@@ -419,18 +468,23 @@ impl Columns {
     }
 }
 
+/// Distinct warnings kept; further distinct ones are only counted.
+const MAX_WARNINGS: usize = 1000;
+
 /// Warnings aggregated by message: first line and count, so that a repeated oddity costs one
-/// entry, not one per occurrence.
+/// entry, not one per occurrence; at most [`MAX_WARNINGS`] distinct messages.
 #[derive(Debug, Default)]
 pub(super) struct Warnings {
     pub(super) index: HashMap<String, usize>,
     pub(super) list: Vec<(String, u64, u64)>,
+    pub(super) dropped: u64,
 }
 
 impl Warnings {
     pub(super) fn note(&mut self, msg: String, line: u64) {
         match self.index.get(&msg) {
             Some(&i) => self.list[i].2 += 1,
+            None if self.list.len() >= MAX_WARNINGS => self.dropped += 1,
             None => {
                 self.index.insert(msg.clone(), self.list.len());
                 self.list.push((msg, line, 1));
@@ -438,7 +492,9 @@ impl Warnings {
         }
     }
     pub(super) fn finish(self) -> Vec<String> {
-        self.list
+        let dropped = self.dropped;
+        let mut out: Vec<String> = self
+            .list
             .into_iter()
             .map(|(m, line, n)| {
                 if n == 1 {
@@ -447,7 +503,14 @@ impl Warnings {
                     format!("line {line} (and {} more times): {m}", n - 1)
                 }
             })
-            .collect()
+            .collect();
+        if dropped > 0 {
+            out.push(format!(
+                "{dropped} further warnings of other kinds were not listed (only the first \
+                 {MAX_WARNINGS} distinct warnings are kept)"
+            ));
+        }
+        out
     }
 }
 

@@ -103,11 +103,29 @@ pub enum MissingCaseLabel {
 }
 
 /// Options of [`read_xes`].
-#[derive(Debug, Clone, Default)]
+#[derive(Debug, Clone)]
 pub struct XesReadOptions {
     /// Traces without `concept:name`: default [`MissingCaseLabel::Generate`].
     pub missing_case_label: MissingCaseLabel,
+    /// Budget for attribute columns, counted as distinct keys × rows (events for event
+    /// attributes, cases for case attributes); default 2^30. A column holds a value or a null
+    /// for every row, so a file whose keys are all different would otherwise need memory
+    /// quadratic in its size; past the budget the reader stops with [`TmError::Limit`].
+    pub max_attribute_cells: u64,
 }
+
+impl Default for XesReadOptions {
+    fn default() -> Self {
+        XesReadOptions {
+            missing_case_label: MissingCaseLabel::Generate,
+            max_attribute_cells: 1 << 30,
+        }
+    }
+}
+
+/// Deepest element nesting accepted (log, trace, event and 60 levels of nested attributes);
+/// real files use a handful, and a bound keeps hostile nesting from costing quadratic time.
+const MAX_DEPTH: usize = 64;
 
 /// The XES attribute types (IEEE 1849-2016 six simple types and `list`; `container` from the
 /// pre-IEEE format).
@@ -415,8 +433,8 @@ impl<'o> Parser<'o> {
             time: Vec::new(),
             resource: ColBuilder::new(KEY_RESOURCE.into(), true),
             lifecycle: ColBuilder::new(KEY_LIFECYCLE.into(), true),
-            event_cols: Columns::default(),
-            case_cols: Columns::default(),
+            event_cols: Columns::new(opts.max_attribute_cells, "event"),
+            case_cols: Columns::new(opts.max_attribute_cells, "case"),
         }
     }
 
@@ -460,6 +478,14 @@ impl<'o> Parser<'o> {
     fn open(&mut self, e: &BytesStart<'_>, empty: bool, line: u64) -> TmResult<()> {
         let local = e.local_name();
         let name = local.as_ref();
+        if !empty && self.stack.len() >= MAX_DEPTH {
+            return Err(attr_error(
+                line,
+                format_args!(
+                    "elements nested more than {MAX_DEPTH} deep; XES attributes do not nest that far"
+                ),
+            ));
+        }
         let Some(top) = self.stack.last().map(|f| f.ctx) else {
             return self.open_root(e, name, empty, line);
         };
@@ -728,7 +754,7 @@ impl<'o> Parser<'o> {
                     } else {
                         Cow::Borrowed(key)
                     };
-                    let col = self.case_cols.get(&key, line)?;
+                    let col = self.case_cols.get(&key, self.case_names.len(), line)?;
                     self.trace.pending.push((col, ty, raw.to_vec(), line));
                 }
                 Ok(())
@@ -973,6 +999,10 @@ impl<'o> Parser<'o> {
         }
         let resource = self.resource.finish(n);
         let lifecycle = self.lifecycle.finish(n);
+        self.event_cols
+            .check_budget(self.event_cols.cols.len(), n)?;
+        self.case_cols
+            .check_budget(self.case_cols.cols.len(), n_cases)?;
         let event_attrs = self.event_cols.finish(n);
         let case_cols = self.case_cols.finish(n_cases);
         let input = LogInput {
@@ -1415,6 +1445,7 @@ pub(crate) mod tests {
                    <date key=\"time:timestamp\" value=\"2024-03-04T11:00:00Z\"/></event>\n</trace>\n</log>";
         let opts = XesReadOptions {
             missing_case_label: MissingCaseLabel::Error,
+            ..Default::default()
         };
         let (line, msg) = format_line(read_xes(doc.as_bytes(), &opts, &Control::new()));
         assert_eq!(line, 2, "{msg}");
@@ -1583,6 +1614,50 @@ pub(crate) mod tests {
         // A DOCTYPE inside the document is refused too.
         let inner = "<log>\n<!DOCTYPE x>\n</log>";
         assert!(matches!(read(inner), Err(TmError::Format { .. })));
+    }
+
+    #[test]
+    fn hostile_shapes_are_bounded() {
+        // Deep nesting.
+        let deep = ev(&format!(
+            "{}{}",
+            "<list key=\"l\">".repeat(100),
+            "</list>".repeat(100)
+        ));
+        let (line, msg) = format_line(read(&deep));
+        assert_eq!(line, 6);
+        assert!(msg.contains("nested more than 64"), "{msg}");
+        // A different key on every event: columns x rows past the budget is a Limit error.
+        let e = |k: usize| {
+            format!(
+                "<event><string key=\"concept:name\" value=\"a\"/>\
+                 <date key=\"time:timestamp\" value=\"2024-03-04T11:00:00Z\"/>\
+                 <int key=\"k{k}\" value=\"1\"/></event>"
+            )
+        };
+        let doc = format!(
+            "<log><trace>{}</trace></log>",
+            (0..200).map(e).collect::<String>()
+        );
+        let opts = XesReadOptions {
+            max_attribute_cells: 10_000,
+            ..Default::default()
+        };
+        let err = read_xes(doc.as_bytes(), &opts, &Control::new()).unwrap_err();
+        assert!(matches!(err, TmError::Limit { .. }), "{err:?}");
+        assert!(err.to_string().contains("max_attribute_cells"), "{err}");
+        assert!(read(&doc).is_ok());
+        // Many repeats of one key in one element stay linear.
+        let rep = ev(&format!(
+            "<string key=\"concept:name\" value=\"a\"/>\
+             <date key=\"time:timestamp\" value=\"2024-03-04T11:00:00Z\"/>{}",
+            "<int key=\"k\" value=\"1\"/>".repeat(3000)
+        ));
+        let t0 = Instant::now();
+        let x = read(&rep).unwrap();
+        assert!(t0.elapsed().as_secs_f64() < 2.0);
+        assert_eq!(x.input.event_attrs.len(), 3000);
+        assert_eq!(x.input.event_attrs[2999].name, "k#3000");
     }
 
     #[test]
