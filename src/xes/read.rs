@@ -2,7 +2,8 @@
 //!
 //! The reader makes one pass over the XML with `quick-xml`, keeping only the current element
 //! stack, the attribute path and the columns being filled. Memory is the size of the result plus
-//! one read buffer, whatever the file size; gzip input is decompressed as a stream.
+//! a 64 KiB read buffer and the longest single tag, whatever the file size; gzip input is
+//! decompressed as a stream.
 //!
 //! How each XES construct ends up (IEEE 1849-2016, section 5; 2023 revision accepted too):
 //!
@@ -43,12 +44,15 @@
 //! occurs twice in one element (or a flattened key collides with a literal one), the later
 //! values go to `key#2`, `key#3`, ... and are counted in the report.
 //!
-//! Hostile input is refused early: any `<!DOCTYPE` (and hence any entity definition, internal
-//! or external) is an error at its line, before a byte of it is buffered, so entity expansion
-//! ("billion laughs") and external fetches cannot happen. Only the five predefined XML entities
+//! Hostile input is refused early: a `<!DOCTYPE` (and hence any entity definition, internal
+//! or external) is an error at its line, found by a prolog scan after its first nine bytes
+//! (one after the root element, malformed anyway, is refused when the parser meets it), so
+//! entity expansion ("billion laughs") and external fetches cannot happen. Only the five predefined XML entities
 //! and character references are decoded. Malformed or truncated XML, truncated gzip and
 //! non-UTF-8 bytes are [`TmError::Format`] errors with the 1-based line; lines are counted as
-//! the parser consumes its buffer, never by rescanning.
+//! the parser consumes its buffer, never by rescanning. Shapes that would cost more than linear
+//! work are bounded: element nesting (64 levels), attribute columns × rows
+//! ([`XesReadOptions::max_attribute_cells`]) and the number of distinct warnings kept.
 //!
 //! References: IEEE Std 1849-2016, *IEEE Standard for eXtensible Event Stream (XES) for
 //! Achieving Interoperability in Event Logs and Event Streams*, and its 2023 revision;
