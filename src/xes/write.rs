@@ -177,8 +177,35 @@ fn prepare<'a>(cols: &'a [Column], reserved: &[&str], scope: &str) -> TmResult<V
                     ),
                 )
             })?;
+            // Columns are public, so check what indexing below relies on rather than panic.
+            if col.valid.as_ref().is_some_and(|m| m.len() != col.len()) {
+                return Err(TmError::schema(
+                    col.name.clone(),
+                    None,
+                    format!(
+                        "cannot write XES: the {scope} attribute '{}' has a validity mask of a \
+                         different length than its values",
+                        col.name
+                    ),
+                ));
+            }
             let dict = match &col.values {
-                Values::Cat { dict, .. } => escape_dict(dict),
+                Values::Cat { dict, codes } => {
+                    if let Some(row) = codes.iter().position(|&c| c as usize >= dict.len()) {
+                        return Err(TmError::schema(
+                            col.name.clone(),
+                            Some(row as u64),
+                            format!(
+                                "cannot write XES: the {scope} attribute '{}' has code {} at row \
+                                 {row}, outside its dictionary of {} values",
+                                col.name,
+                                codes[row],
+                                dict.len()
+                            ),
+                        ));
+                    }
+                    escape_dict(dict)
+                }
                 _ => Vec::new(),
             };
             Ok(Prepared { col, key, dict })
@@ -569,6 +596,24 @@ mod tests {
         input.event_attrs = vec![cat("note", &["ok", "bad\u{0}"], vec![0], None)];
         let (log, _) = EventLog::build(input).unwrap();
         assert!(write(&log).is_ok());
+    }
+
+    #[test]
+    fn malformed_columns_are_errors_not_panics() {
+        let mut input = LogInput::new(
+            vec![0],
+            vec!["c".into()],
+            vec![0],
+            vec!["a".into()],
+            vec![0],
+        );
+        input.event_attrs = vec![cat("note", &["x"], vec![3], None)];
+        let (log, _) = EventLog::build(input).unwrap();
+        let err = write(&log).unwrap_err();
+        assert!(
+            matches!(err, TmError::Schema { row: Some(0), .. }),
+            "{err:?}"
+        );
     }
 
     #[test]
