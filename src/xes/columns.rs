@@ -369,6 +369,8 @@ pub(super) struct Columns {
     max_cells: u64,
     /// "event" or "case", for messages.
     scope: &'static str,
+    /// The column found by the last lookup.
+    last: usize,
 }
 
 impl Default for Columns {
@@ -385,6 +387,7 @@ impl Columns {
             dup: HashMap::new(),
             max_cells,
             scope,
+            last: 0,
         }
     }
 
@@ -407,7 +410,23 @@ impl Columns {
 
     /// The column for `key`, created if new (`row` is the current row, for the budget).
     pub(super) fn get(&mut self, key: &[u8], row: usize, line: u64) -> TmResult<usize> {
+        // Elements usually list their keys in the same order, so first try the column after
+        // the one found last: a byte comparison instead of hashing.
+        let guess = if self.last + 1 < self.cols.len() {
+            self.last + 1
+        } else {
+            0
+        };
+        if self
+            .cols
+            .get(guess)
+            .is_some_and(|c| c.name.as_bytes() == key)
+        {
+            self.last = guess;
+            return Ok(guess);
+        }
         if let Some(&i) = self.index.get(key) {
+            self.last = i;
             return Ok(i);
         }
         self.check_budget(self.cols.len() + 1, row + 1)?;
@@ -415,6 +434,7 @@ impl Columns {
         let i = self.cols.len();
         self.cols.push(ColBuilder::new(name, false));
         self.index.insert(key.into(), i);
+        self.last = i;
         Ok(i)
     }
 

@@ -112,9 +112,10 @@ impl BufRead for Source<'_> {
     }
 }
 
-fn count_newlines(b: &[u8]) -> u64 {
-    // Written so that the compiler vectorises it.
-    b.iter().map(|&c| u64::from(c == b'\n')).sum()
+pub(super) fn count_newlines(b: &[u8]) -> u64 {
+    // memchr's counter is vectorised and returns at once on the short, newline-free tags
+    // that make up most calls.
+    memchr::memchr_iter(b'\n', b).count() as u64
 }
 
 pub(super) fn io_to_tm(e: &io::Error, gzip: bool, line: u64) -> TmError {

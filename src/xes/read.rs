@@ -73,7 +73,8 @@ use quick_xml::Reader;
 
 use super::columns::{parse_val, xes_value, ColBuilder, Columns, Interner, Val, Warnings};
 use super::input::{
-    attr_error, doctype_error, io_to_tm, key_value, skip_prolog, utf8, xml_attrs, RawCount, Source,
+    attr_error, count_newlines, doctype_error, io_to_tm, key_value, skip_prolog, utf8, xml_attrs,
+    RawCount, Source,
 };
 use super::time::parse_datetime_bytes;
 use crate::control::Control;
@@ -1077,7 +1078,10 @@ fn read_impl<R: BufRead>(
     let mut xml = Reader::from_reader(src);
     {
         let c = xml.config_mut();
-        c.trim_text(false);
+        // Whitespace-only text between tags is skipped inside the parser (a fifth faster on
+        // indented files); the line of an event is then the line after it minus its newlines.
+        c.trim_text_start = true;
+        c.trim_text_end = false;
         c.check_end_names = true;
         c.expand_empty_elements = false;
         c.allow_unmatched_ends = false;
@@ -1088,24 +1092,26 @@ fn read_impl<R: BufRead>(
     let mut next_check = CHECK_EVERY;
     let mut reported = 0u64;
     loop {
-        // Whitespace between tags is its own event, so this is the line of the next markup.
-        let line = xml.get_ref().line();
         buf.clear();
         let ev = match xml.read_event_into(&mut buf) {
             Ok(ev) => ev,
-            Err(e) => return Err(xml_error(&e, xml.get_ref(), line)),
+            // Where the parser stopped: for a truncated tag, the end of the input.
+            Err(e) => return Err(xml_error(&e, xml.get_ref(), xml.get_ref().line())),
         };
+        let after = xml.get_ref().line();
+        let line = |b: &[u8]| after - count_newlines(b);
         match ev {
-            Event::Start(e) => p.open(&e, false, line)?,
-            Event::Empty(e) => p.open(&e, true, line)?,
-            Event::End(_) => p.close(line)?,
+            Event::Start(e) => p.open(&e, false, line(&e))?,
+            Event::Empty(e) => p.open(&e, true, line(&e))?,
+            Event::End(e) => p.close(line(&e))?,
             Event::Text(t) => {
                 if !t.iter().all(u8::is_ascii_whitespace) {
-                    p.text(line);
+                    p.text(line(&t));
                 }
             }
-            Event::CData(_) | Event::GeneralRef(_) => p.text(line),
-            Event::DocType(_) => return Err(doctype_error(line)),
+            Event::CData(t) => p.text(line(&t)),
+            Event::GeneralRef(_) => p.text(after),
+            Event::DocType(t) => return Err(doctype_error(line(&t))),
             Event::Comment(_) | Event::Decl(_) | Event::PI(_) => {}
             Event::Eof => break,
         }
@@ -1699,6 +1705,24 @@ pub(crate) mod tests {
     }
 
     #[test]
+    fn lines_of_multi_line_tags_and_blank_lines() {
+        let doc = "<log>\n\n\n<trace>\n  <event>\n    <string\n      key=\"concept:name\"\n      \
+                   value=\"&bad;\"/>\n</event></trace></log>";
+        let (line, msg) = format_line(read(doc));
+        assert_eq!(line, 6, "{msg}");
+        let doc = "<log>\n\n<trace>\n\n  stray text\n<event/></trace></log>";
+        let (line, _) = format_line(read(doc));
+        assert_eq!(line, 6); // the event without concept:name
+        let doc = "<log>\n\n<trace>\n\n  stray text\n</trace></log>";
+        let x = read(doc).unwrap();
+        assert!(
+            x.report.warnings[0].starts_with("line 5:"),
+            "{:?}",
+            x.report.warnings
+        );
+    }
+
+    #[test]
     fn non_utf8_is_a_format_error() {
         let doc = ev("<string key=\"concept:name\" value=\"caf\u{e9}\"/>\n<date key=\"time:timestamp\" value=\"2024-03-04T11:00:00Z\"/>");
         let mut b = doc.into_bytes();
@@ -1787,8 +1811,13 @@ pub(crate) mod tests {
     }
 
     /// A synthetic bicycle-workshop XES document with `n_events` events (about 8 per case),
-    /// shaped like common exports: 5 attributes per event, 3 per trace, tab indentation.
+    /// shaped like common exports: 5 attributes per event (`extra` more int/string/boolean
+    /// ones when asked), 3 per trace, tab indentation.
     pub(crate) fn synthetic_xes(n_events: usize, seed: u64) -> Vec<u8> {
+        synthetic_xes_wide(n_events, seed, 0)
+    }
+
+    pub(crate) fn synthetic_xes_wide(n_events: usize, seed: u64, extra: usize) -> Vec<u8> {
         let acts = [
             "register bike",
             "inspect frame",
@@ -1837,14 +1866,33 @@ pub(crate) mod tests {
                      \t\t\t<date key=\"time:timestamp\" value=\"{}\"/>\n\
                      \t\t\t<string key=\"org:resource\" value=\"{}\"/>\n\
                      \t\t\t<string key=\"lifecycle:transition\" value=\"complete\"/>\n\
-                     \t\t\t<float key=\"cost:total\" value=\"{}.{}\"/>\n\
-                     \t\t</event>\n",
+                     \t\t\t<float key=\"cost:total\" value=\"{}.{}\"/>\n",
                     act,
                     String::from_utf8_lossy(&ts),
                     people[(rnd() % 5) as usize],
                     rnd() % 200,
                     rnd() % 100
                 );
+                for k in 0..extra {
+                    let _ = match k % 3 {
+                        0 => writeln!(
+                            out,
+                            "\t\t\t<int key=\"count {k}\" value=\"{}\"/>",
+                            rnd() % 1000
+                        ),
+                        1 => writeln!(
+                            out,
+                            "\t\t\t<string key=\"tag {k}\" value=\"t{}\"/>",
+                            rnd() % 50
+                        ),
+                        _ => writeln!(
+                            out,
+                            "\t\t\t<boolean key=\"flag {k}\" value=\"{}\"/>",
+                            rnd() % 2 == 0
+                        ),
+                    };
+                }
+                out.extend_from_slice(b"\t\t</event>\n");
                 e += 1;
             }
             out.extend_from_slice(b"\t</trace>\n");
@@ -1893,6 +1941,19 @@ pub(crate) mod tests {
              {cpu:.3} s CPU = {:.0} MB/s on one core",
             mb / wall,
             mb / cpu
+        );
+        let wide = synthetic_xes_wide(100_000, 42, 12);
+        let wmb = wide.len() as f64 / 1e6;
+        let mut wcpu = f64::INFINITY;
+        for _ in 0..3 {
+            let (w, c) = timed(|| {
+                read_xes_bytes(&wide).unwrap();
+            });
+            wcpu = wcpu.min(c.unwrap_or(w));
+        }
+        println!(
+            "XES read, 17 attributes per event: {wmb:.1} MB, 100000 events, {wcpu:.3} s CPU = {:.0} MB/s",
+            wmb / wcpu
         );
         let gz = gzip(&doc);
         let (w, c) = timed(|| {
