@@ -444,6 +444,9 @@ fn malformed_attr(line: u64, why: &str) -> TmError {
 pub(super) type KeyValue<'b> = (Option<Cow<'b, [u8]>>, Option<Cow<'b, [u8]>>);
 
 pub(super) fn key_value<'b>(e: &'b BytesStart<'_>, line: u64) -> TmResult<KeyValue<'b>> {
+    if let Some((k, v)) = canonical_key_value(e.attributes_raw()) {
+        return Ok((Some(unescape_attr(k, line)?), Some(unescape_attr(v, line)?)));
+    }
     let mut key = None;
     let mut value = None;
     let mut it = RawAttrs::new(e);
@@ -462,6 +465,19 @@ pub(super) fn key_value<'b>(e: &'b BytesStart<'_>, line: u64) -> TmResult<KeyVal
         *slot = Some(unescape_attr(raw, line)?);
     }
     Ok((key, value))
+}
+
+/// The form nearly every XES writer uses, ` key="k" value="v"` (then only whitespace), matched
+/// directly; anything else returns `None` and goes through the general scanner.
+fn canonical_key_value(raw: &[u8]) -> Option<NameValue<'_>> {
+    let rest = raw.strip_prefix(b" key=\"")?;
+    let k_end = memchr::memchr2(b'"', b'<', rest)?;
+    let (k, rest) = rest.split_at(k_end);
+    let rest = rest.strip_prefix(b"\" value=\"")?;
+    let v_end = memchr::memchr2(b'"', b'<', rest)?;
+    let (v, rest) = rest.split_at(v_end);
+    let rest = rest.strip_prefix(b"\"")?;
+    rest.iter().all(u8::is_ascii_whitespace).then_some((k, v))
 }
 
 /// All XML attributes of an element as decoded strings.
@@ -564,6 +580,41 @@ mod tests {
             ));
         }
         Ok(out)
+    }
+
+    #[test]
+    fn canonical_form_shortcut_agrees_with_the_scanner() {
+        for tag in [
+            "<string key=\"k\" value=\"v\"/>",
+            "<string key=\"k\" value=\"v\" />",
+            "<string key=\"\" value=\"\"/>",
+            "<string key=\"a&amp;b\" value=\"x&#10;y\"/>",
+            "<string value=\"v\" key=\"k\"/>",
+            "<string key=\"k\"  value=\"v\"/>",
+            "<string key='k' value='v'/>",
+            "<string key=\"k\" value=\"v\" extra=\"1\"/>",
+            "<string key=\"k\" value=\"a<b\"/>",
+            "<string key=\"k\" value=\"v\"x=\"1\"/>",
+            "<string key=\"k\" value=\"v\" key=\"again\"/>",
+        ] {
+            let mut r = quick_xml::Reader::from_str(tag);
+            let Ok(Event::Empty(e)) = r.read_event() else {
+                continue;
+            };
+            let fast = canonical_key_value(e.attributes_raw());
+            let general = key_value(&e, 1);
+            if let Some((k, v)) = fast {
+                let (gk, gv) = general.unwrap();
+                let (k, v) = (unescape_attr(k, 1).unwrap(), unescape_attr(v, 1).unwrap());
+                assert_eq!((gk, gv), (Some(k), Some(v)), "{tag}");
+            }
+        }
+        assert!(canonical_key_value(b" key=\"k\" value=\"a<b\"").is_none());
+        assert!(canonical_key_value(b" key=\"k\" value=\"v\"x=\"1\"").is_none());
+        assert_eq!(
+            canonical_key_value(b" key=\"k\" value=\"v\" "),
+            Some((&b"k"[..], &b"v"[..]))
+        );
     }
 
     #[test]
