@@ -10,6 +10,7 @@
 //! * [`discover`]: process discovery (directly-follows, dependency, alpha, inductive);
 //! * [`conform`]: conformance checking (token replay, alignments, precision);
 //! * [`io`]: PNML and BPMN files.
+//! * [`xes`]: IEEE 1849 XES reading and writing.
 
 #![warn(missing_docs)]
 
@@ -20,6 +21,7 @@ pub mod error;
 pub mod io;
 pub mod log;
 pub mod sim;
+pub mod xes;
 
 #[cfg(feature = "python")]
 mod python;
