@@ -7,6 +7,7 @@ mod errors;
 mod log;
 mod run;
 mod sim;
+mod xes;
 
 use pyo3::prelude::*;
 
@@ -45,6 +46,9 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(sim::workshop_json, m)?)?;
     m.add_function(wrap_pyfunction!(sim::check_spec, m)?)?;
     discover::register(m)?;
+    m.add_function(wrap_pyfunction!(xes::read_xes_file, m)?)?;
+    m.add_function(wrap_pyfunction!(xes::read_xes_data, m)?)?;
+    m.add_function(wrap_pyfunction!(xes::write_xes_file, m)?)?;
     m.add_function(wrap_pyfunction!(_panic_for_test, m)?)?;
     m.add_function(wrap_pyfunction!(_sleep_for_test, m)?)?;
     Ok(())
