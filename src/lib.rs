@@ -4,6 +4,8 @@
 //! [`python`](crate) (`src/python/`). Modules:
 //!
 //! * [`log`]: the event log, its derived views and selections;
+//! * [`tree`]: classification and regression trees;
+//! * [`eval`]: metrics, cross-validation splits, statistical tests, drift scans;
 //! * [`control`]: cancellation and progress for long kernels;
 //! * [`error`]: the error type shared by all kernels.
 
@@ -11,7 +13,9 @@
 
 pub mod control;
 pub mod error;
+pub mod eval;
 pub mod log;
+pub mod tree;
 
 #[cfg(feature = "python")]
 mod python;

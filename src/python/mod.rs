@@ -3,8 +3,10 @@
 
 mod convert;
 mod errors;
+mod eval;
 mod log;
 mod run;
+mod tree;
 
 use pyo3::prelude::*;
 
@@ -39,6 +41,8 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(log::build_log, m)?)?;
     m.add_function(wrap_pyfunction!(convert::factorize_utf8, m)?)?;
     m.add_function(wrap_pyfunction!(convert::factorize_i64, m)?)?;
+    tree::register(m)?;
+    eval::register(m)?;
     m.add_function(wrap_pyfunction!(_panic_for_test, m)?)?;
     m.add_function(wrap_pyfunction!(_sleep_for_test, m)?)?;
     Ok(())
