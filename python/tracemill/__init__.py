@@ -26,6 +26,7 @@ from .exceptions import (
     TracemillWarning,
 )
 from .log import EventLog
+from .tree import TreeClassifier, TreeRegressor
 
 __version__: str = _core.__version__
 
@@ -43,5 +44,7 @@ __all__ = [
     "TracemillError",
     "TracemillIOError",
     "TracemillWarning",
+    "TreeClassifier",
+    "TreeRegressor",
     "__version__",
 ]

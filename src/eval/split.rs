@@ -74,10 +74,7 @@ pub fn stratified_kfold(y: &[u32], k: usize, seed: Option<u64>) -> TmResult<Vec<
     }
     if let Some((c, &m)) = counts.iter().enumerate().min_by_key(|(_, &m)| m) {
         if m < k {
-            let label = code
-                .iter()
-                .find(|(_, &v)| v == c)
-                .map_or(0, |(l, _)| *l);
+            let label = code.iter().find(|(_, &v)| v == c).map_or(0, |(l, _)| *l);
             return Err(TmError::param(
                 "n_splits",
                 format!(
@@ -197,7 +194,10 @@ mod tests {
     #[test]
     fn stratified_matches_reference() {
         // StratifiedKFold(2) on y = [0,0,1,1] -> tests [0,2],[1,3] (REFERENCES.md section F).
-        assert_eq!(stratified_kfold(&[0, 0, 1, 1], 2, None).unwrap(), vec![0, 1, 0, 1]);
+        assert_eq!(
+            stratified_kfold(&[0, 0, 1, 1], 2, None).unwrap(),
+            vec![0, 1, 0, 1]
+        );
         let e = stratified_kfold(&[0, 0, 0, 1], 2, None).unwrap_err();
         assert!(e.to_string().contains("smallest class"));
     }

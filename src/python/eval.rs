@@ -30,7 +30,10 @@ pub fn confusion_scores<'py>(
     let c = metrics::confusion_matrix(&t, &p, n_labels, w.as_deref()).map_err(to_py)?;
     let s = metrics::scores(&c, n_labels, zero_division).map_err(to_py)?;
     let d = PyDict::new(py);
-    d.set_item("confusion", c.into_pyarray(py).reshape([n_labels, n_labels])?)?;
+    d.set_item(
+        "confusion",
+        c.into_pyarray(py).reshape([n_labels, n_labels])?,
+    )?;
     d.set_item("accuracy", s.accuracy)?;
     d.set_item("error", s.error)?;
     d.set_item("precision", s.precision.into_pyarray(py))?;
@@ -104,10 +107,7 @@ pub fn time_splits(
 /// Chi-square (`g=False`) or G-test on a contingency table: `(statistic, dof, p, n_columns)`.
 #[pyfunction]
 #[pyo3(signature = (table, g=false))]
-pub fn table_test(
-    table: PyReadonlyArray2<'_, f64>,
-    g: bool,
-) -> PyResult<(f64, usize, f64, usize)> {
+pub fn table_test(table: PyReadonlyArray2<'_, f64>, g: bool) -> PyResult<(f64, usize, f64, usize)> {
     let (r, c) = (table.shape()[0], table.shape()[1]);
     let t: Vec<f64> = table.as_array().iter().copied().collect();
     let res = stats::table_test(&t, r, c, g).map_err(to_py)?;

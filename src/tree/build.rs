@@ -126,20 +126,20 @@ pub(crate) fn grow(
     if nf == 0 {
         return Err(TmError::data("a tree needs at least one feature column"));
     }
-    let (yc, yv_owned, dim, n_classes, y_mean): (&[u32], Vec<f64>, usize, usize, f64) =
-        match target {
-            Target::Classes { y, n_classes } => (y, Vec::new(), n_classes, n_classes, 0.0),
-            Target::Values(v) => {
-                // Centre the target on the mean of the samples used, for numerical stability.
-                let rows = &pre.order[..m];
-                let mean = if rows.is_empty() {
-                    0.0
-                } else {
-                    rows.iter().map(|&i| v[i as usize]).sum::<f64>() / rows.len() as f64
-                };
-                (&[], v.iter().map(|y| y - mean).collect(), 3, 0, mean)
-            }
-        };
+    let (yc, yv_owned, dim, n_classes, y_mean): (&[u32], Vec<f64>, usize, usize, f64) = match target
+    {
+        Target::Classes { y, n_classes } => (y, Vec::new(), n_classes, n_classes, 0.0),
+        Target::Values(v) => {
+            // Centre the target on the mean of the samples used, for numerical stability.
+            let rows = &pre.order[..m];
+            let mean = if rows.is_empty() {
+                0.0
+            } else {
+                rows.iter().map(|&i| v[i as usize]).sum::<f64>() / rows.len() as f64
+            };
+            (&[], v.iter().map(|y| y - mean).collect(), 3, 0, mean)
+        }
+    };
     let ctx = Ctx {
         x: x.cols(),
         n,
@@ -203,9 +203,8 @@ pub(crate) fn grow(
             && imp > f64::EPSILON;
         let mut children: Vec<(usize, usize)> = Vec::new();
         if can_split {
-            let search = |f: usize| {
-                ctx.best_split(f, &pre.order[f * m + lo..f * m + hi], &s, wn, imp)
-            };
+            let search =
+                |f: usize| ctx.best_split(f, &pre.order[f * m + lo..f * m + hi], &s, wn, imp);
             let found: Vec<Option<Found>> = if size >= PAR_MIN {
                 (0..nf).into_par_iter().map(search).collect()
             } else {
@@ -484,9 +483,9 @@ pub fn fit_predict_folds(
             if train_rows.is_empty() {
                 return Err(TmError::data(format!("fold {k} leaves no training rows")));
             }
-            target.check(n, Some(&train_rows)).map_err(|e| {
-                TmError::data(format!("training part of fold {k}: {e}"))
-            })?;
+            target
+                .check(n, Some(&train_rows))
+                .map_err(|e| TmError::data(format!("training part of fold {k}: {e}")))?;
             let sub = pre.subset(&keep, x.n_features());
             let tree = grow(x, target, w, params, sub, ctl)?;
             Ok(test
@@ -649,7 +648,10 @@ mod tests {
         };
         let t = fit(
             &f,
-            Target::Classes { y: &y, n_classes: 2 },
+            Target::Classes {
+                y: &y,
+                n_classes: 2,
+            },
             None,
             &p,
             &no_control(),
@@ -663,7 +665,9 @@ mod tests {
         let rain = t.nodes[0].children[2];
         assert_eq!(t.nodes[sunny].feature, Some(2));
         assert_eq!(t.nodes[rain].feature, Some(3));
-        let (leaves, _) = t.apply(&play_tennis().0, 14, UnseenPolicy::Error, &[]).unwrap();
+        let (leaves, _) = t
+            .apply(&play_tennis().0, 14, UnseenPolicy::Error, &[])
+            .unwrap();
         for (i, &l) in leaves.iter().enumerate() {
             let out = t.leaf_output(l);
             assert_eq!(u32::from(out[1] > 0.5), y[i]);
@@ -675,7 +679,10 @@ mod tests {
         // Mitchell 1997, ch. 3 (book prints 0.246, 0.029, 0.151, 0.048 from rounded
         // intermediates); exact values and gain ratios recomputed (REFERENCES.md section E).
         let (f, y) = tennis_features();
-        let t = Target::Classes { y: &y, n_classes: 2 };
+        let t = Target::Classes {
+            y: &y,
+            n_classes: 2,
+        };
         let p = TreeParams {
             criterion: Criterion::Entropy,
             categorical_split: CategoricalSplit::Multiway,
@@ -701,8 +708,14 @@ mod tests {
     fn regression_tree_splits_on_the_step() {
         let x: Vec<f64> = (0..20).map(f64::from).collect();
         let y: Vec<f64> = (0..20).map(|i| if i < 10 { 1.0 } else { 5.0 }).collect();
-        let f = Features::from_row_major(&x, 20, vec![FeatureKind::Numeric], MissingPolicy::Error, &[])
-            .unwrap();
+        let f = Features::from_row_major(
+            &x,
+            20,
+            vec![FeatureKind::Numeric],
+            MissingPolicy::Error,
+            &[],
+        )
+        .unwrap();
         let p = TreeParams {
             criterion: Criterion::SquaredError,
             ..TreeParams::default()
@@ -719,7 +732,10 @@ mod tests {
         let (f, y) = tennis_features();
         let t = fit(
             &f,
-            Target::Classes { y: &y, n_classes: 2 },
+            Target::Classes {
+                y: &y,
+                n_classes: 2,
+            },
             None,
             &TreeParams::default(),
             &no_control(),
@@ -738,7 +754,10 @@ mod tests {
         let (f, y) = tennis_features();
         let fold: Vec<u32> = (0..14).map(|i| i % 2).collect();
         let p = TreeParams::default();
-        let t = Target::Classes { y: &y, n_classes: 2 };
+        let t = Target::Classes {
+            y: &y,
+            n_classes: 2,
+        };
         let out = fit_predict_folds(&f, t, None, &p, &fold, 2, &no_control()).unwrap();
         assert_eq!(out.len(), 28);
         // fold 0 test rows predicted by a tree on fold-1 rows only
@@ -758,7 +777,10 @@ mod tests {
         let y = vec![1u32; 14];
         let e = fit(
             &f,
-            Target::Classes { y: &y, n_classes: 2 },
+            Target::Classes {
+                y: &y,
+                n_classes: 2,
+            },
             None,
             &TreeParams::default(),
             &no_control(),
@@ -768,7 +790,10 @@ mod tests {
         let y = vec![1u32; 3];
         assert!(fit(
             &f,
-            Target::Classes { y: &y, n_classes: 2 },
+            Target::Classes {
+                y: &y,
+                n_classes: 2
+            },
             None,
             &TreeParams::default(),
             &no_control()

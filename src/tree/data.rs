@@ -331,14 +331,9 @@ mod tests {
     #[test]
     fn presort_puts_nan_last_and_subsets() {
         let x = [3.0, f64::NAN, 1.0, 2.0];
-        let f = Features::from_row_major(
-            &x,
-            4,
-            vec![FeatureKind::Numeric],
-            MissingPolicy::Route,
-            &[],
-        )
-        .unwrap();
+        let f =
+            Features::from_row_major(&x, 4, vec![FeatureKind::Numeric], MissingPolicy::Route, &[])
+                .unwrap();
         let p = Presorted::new(&f);
         assert_eq!(p.order, vec![2, 3, 0, 1]);
         let s = p.subset(&[true, true, false, true], 1);
@@ -352,8 +347,16 @@ mod tests {
             y: &y,
             n_classes: 2,
         };
-        assert!(t.check(3, None).unwrap_err().to_string().contains("one class"));
-        assert!(t.check(2, None).unwrap_err().to_string().contains("same length"));
+        assert!(t
+            .check(3, None)
+            .unwrap_err()
+            .to_string()
+            .contains("one class"));
+        assert!(t
+            .check(2, None)
+            .unwrap_err()
+            .to_string()
+            .contains("same length"));
         assert!(check_weights(&[1.0, -1.0], 2).is_err());
         assert!(check_weights(&[0.0, 0.0], 2).is_err());
     }

@@ -188,7 +188,10 @@ impl TreeParams {
         if !(self.ccp_alpha >= 0.0 && self.ccp_alpha.is_finite()) {
             return Err(TmError::param(
                 "ccp_alpha",
-                format!("ccp_alpha must be a finite number >= 0; got {}", self.ccp_alpha),
+                format!(
+                    "ccp_alpha must be a finite number >= 0; got {}",
+                    self.ccp_alpha
+                ),
             ));
         }
         Ok(())
@@ -213,7 +216,9 @@ mod tests {
             min_samples_split: 1,
             ..TreeParams::default()
         };
-        assert!(matches!(p.validate(), Err(TmError::Parameter { name, .. }) if name == "min_samples_split"));
+        assert!(
+            matches!(p.validate(), Err(TmError::Parameter { name, .. }) if name == "min_samples_split")
+        );
         let p = TreeParams {
             min_samples_leaf: 0,
             ..TreeParams::default()

@@ -155,8 +155,14 @@ mod tests {
         y[5] = 1;
         y[30] = 0;
         (
-            Features::from_row_major(&x, 40, vec![FeatureKind::Numeric], MissingPolicy::Error, &[])
-                .unwrap(),
+            Features::from_row_major(
+                &x,
+                40,
+                vec![FeatureKind::Numeric],
+                MissingPolicy::Error,
+                &[],
+            )
+            .unwrap(),
             y,
         )
     }
@@ -166,7 +172,10 @@ mod tests {
         let (f, y) = noisy();
         let t = fit(
             &f,
-            Target::Classes { y: &y, n_classes: 2 },
+            Target::Classes {
+                y: &y,
+                n_classes: 2,
+            },
             None,
             &TreeParams::default(),
             &no_control(),

@@ -369,7 +369,10 @@ impl Ctx<'_> {
                     let sc = self.score(
                         node_imp,
                         w_node,
-                        &[(&left_m, self.weight(&left_m)), (&right, self.weight(&right))],
+                        &[
+                            (&left_m, self.weight(&left_m)),
+                            (&right, self.weight(&right)),
+                        ],
                     );
                     if let Some((s, g)) = sc {
                         if best.as_ref().is_none_or(|b| s > b.score) {
