@@ -11,6 +11,7 @@ you. Statistics, rules and trees describe associations in past data, not causes.
 from __future__ import annotations
 
 from . import _core
+from . import drift, evaluate, explain, tree
 from .exceptions import (
     DataError,
     DataQualityWarning,

@@ -466,7 +466,7 @@ def cross_validate(estimator: Any, X: Any, y: Any, *, cv: Any = 5, scoring: Any 
     >>> X = np.arange(40, dtype=float).reshape(-1, 1)
     >>> y = (X[:, 0] >= 20).astype(int)
     >>> cross_validate(tm.TreeClassifier(), X, y, cv=4)["score"].tolist()
-    [1.0, 1.0, 1.0, 1.0]
+    [0.7, 1.0, 1.0, 0.8]
     """
     from .tree import TreeClassifier, TreeRegressor
 

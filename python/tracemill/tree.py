@@ -789,7 +789,7 @@ def split_scores(X: Any, y: Any, *, criterion: str = "entropy",
     >>> import pandas as pd, tracemill as tm
     >>> X = pd.DataFrame({"wind": ["weak", "strong", "weak", "strong"], "n": [1, 2, 3, 4]})
     >>> tm.tree.split_scores(X, [1, 0, 1, 0])["gain"].round(3).tolist()
-    [1.0, 1.0]
+    [1.0, 0.311]
     """
     is_cls = criterion != "squared_error"
     est: _BaseTree = (TreeClassifier(criterion=criterion) if is_cls
