@@ -7,7 +7,6 @@ from types import SimpleNamespace
 
 import numpy as np
 import pandas as pd
-
 import tracemill as tm
 
 HOUR = pd.Timedelta(hours=1)
@@ -36,7 +35,7 @@ def workshop_log(n_cases: int = 1500, seed: int = 1, change_at: float | None = 0
         case = f"R{c:05d}"
         mech = f"mech{rng.integers(0, 4)}"
 
-        def ev(a, t, res=mech):
+        def ev(a, t, res=mech, case=case, bike=bike, warranty=warranty, customer=customer):
             rows.append((case, a, t, res, bike, warranty, customer))
 
         ev("Receive bike", t, "desk")

@@ -8,10 +8,9 @@ import pickle
 import numpy as np
 import pandas as pd
 import pytest
+import tracemill as tm
 from sklearn import datasets
 from sklearn.tree import DecisionTreeClassifier, DecisionTreeRegressor
-
-import tracemill as tm
 from tracemill.tree import split_scores
 
 # Mitchell, Machine Learning (1997), Table 3.2.
@@ -45,19 +44,20 @@ def test_mitchell_entropy_and_gains():
     # intermediates; exact values 0.246750, 0.151836, 0.048127, 0.029223 (REFERENCES.md E).
     X, y = tennis()
     s = split_scores(X, y, criterion="entropy", categorical_split="multiway")
-    gains = dict(zip(s["feature"], s["gain"]))
+    gains = dict(zip(s["feature"], s["gain"], strict=False))
     assert gains["Outlook"] == pytest.approx(0.246750, abs=1e-6)
     assert gains["Humidity"] == pytest.approx(0.151836, abs=1e-6)
     assert gains["Wind"] == pytest.approx(0.048127, abs=1e-6)
     assert gains["Temperature"] == pytest.approx(0.029223, abs=1e-6)
     # gain ratios (C4.5), recomputed from Quinlan 1993's definition (REFERENCES.md E)
     s = split_scores(X, y, criterion="gain_ratio", categorical_split="multiway")
-    ratio = dict(zip(s["feature"], s["score"]))
+    ratio = dict(zip(s["feature"], s["score"], strict=False))
     assert ratio["Outlook"] == pytest.approx(0.156428, abs=1e-6)
     assert ratio["Temperature"] == pytest.approx(0.018773, abs=1e-6)
     # Gini gains (REFERENCES.md E)
     s = split_scores(X, y, criterion="gini", categorical_split="multiway")
-    assert dict(zip(s["feature"], s["gain"]))["Outlook"] == pytest.approx(0.116327, abs=1e-6)
+    gini = dict(zip(s["feature"], s["gain"], strict=True))
+    assert gini["Outlook"] == pytest.approx(0.116327, abs=1e-6)
 
 
 def test_mitchell_id3_tree():
@@ -67,7 +67,7 @@ def test_mitchell_id3_tree():
     clf = tm.TreeClassifier(criterion="entropy", categorical_split="multiway").fit(X, y)
     assert clf.tree_.arrays()["impurity"][0] == pytest.approx(0.940286, abs=1e-6)
     assert clf.n_leaves_ == 5 and clf.depth_ == 2
-    rules = set(zip(clf.rules()["rule"], clf.rules()["prediction"]))
+    rules = set(zip(clf.rules()["rule"], clf.rules()["prediction"], strict=False))
     assert rules == {
         ("Outlook = Overcast", "Yes"),
         ("Outlook = Sunny and Humidity = High", "No"),
@@ -172,7 +172,7 @@ def test_weights_class_weights_and_missing():
     # missing values: routed when asked, an error otherwise
     Xm = X.copy()
     Xm[::7, 0] = np.nan
-    with pytest.raises(tm.DataError, match="missing value .* row 0"):
+    with pytest.raises(tm.DataError, match=r"missing value .* row 0"):
         tm.TreeClassifier().fit(Xm, y)
     m = tm.TreeClassifier(max_depth=4, missing_values="route").fit(Xm, y)
     assert m.score(Xm, y) > 0.9
@@ -192,7 +192,7 @@ def test_categorical_native_and_unseen():
         clf.predict(new)
     assert clf.n_unseen_ == 1
     strict = tm.TreeClassifier(max_depth=1, unseen_categories="error").fit(X, y)
-    with pytest.raises(tm.DataError, match="'color' .* row 0 .* not seen in training"):
+    with pytest.raises(tm.DataError, match=r"'color' .* row 0 .* not seen in training"):
         strict.predict(new)
 
 

@@ -10,8 +10,7 @@ you. Statistics, rules and trees describe associations in past data, not causes.
 
 from __future__ import annotations
 
-from . import _core
-from . import drift, evaluate, explain, tree
+from . import _core, drift, evaluate, explain, tree
 from .exceptions import (
     DataError,
     DataQualityWarning,
@@ -48,4 +47,8 @@ __all__ = [
     "TreeClassifier",
     "TreeRegressor",
     "__version__",
+    "drift",
+    "evaluate",
+    "explain",
+    "tree",
 ]

@@ -143,7 +143,7 @@ def _describe(log: Any, order: np.ndarray, pos: int, w: int) -> str:
     for k in np.argsort(-np.abs(b - a))[:2]:
         if abs(b[k] - a[k]) >= 0.02:
             parts.append(f"'{names[k]}' {a[k]:.2f} -> {b[k]:.2f} per case")
-    start, end, dur, _ = log.handle.case_stats()
+    _start, _end, dur, _ = log.handle.case_stats()
     d0, d1 = np.median(dur[ref]), np.median(dur[det])
     if d0 > 0 and abs(d1 / d0 - 1) >= 0.1:
         parts.append(f"median duration {_hours(d0)} -> {_hours(d1)}")
@@ -195,7 +195,8 @@ def detect_drift(log: Any, *, window: int | None = None, step: int | None = None
     ...     steps = ["Receive", "Repair", "Hand over"] if c < 100 else ["Receive", "Check",
     ...                                                                  "Repair", "Hand over"]
     ...     for k, a in enumerate(steps):
-    ...         rows.append((f"r{c}", a, pd.Timestamp("2025-01-01") + pd.Timedelta(hours=c * 5 + k)))
+    ...         t = pd.Timestamp("2025-01-01") + pd.Timedelta(hours=c * 5 + k)
+    ...         rows.append((f"r{c}", a, t))
     >>> log = tm.EventLog.from_frame(pd.DataFrame(rows, columns=["case", "step", "at"]),
     ...                              case="case", activity="step", timestamp="at")
     >>> res = tm.drift.detect_drift(log, window=40, step=5)

@@ -390,7 +390,7 @@ def time_ordered_split(start: Any, end: Any = None, *, test_size: float = 0.2,
     return np.sort(train), np.sort(test), dropped
 
 
-# ---------------------------------------------------------------------------------- cross-validation
+# ------------------------------------------------------------------------------ cross-validation
 _SCORERS: dict[str, Callable[[np.ndarray, np.ndarray], float]] = {
     "accuracy": lambda t, p: float(np.mean(t == p)),
     "error": lambda t, p: float(np.mean(t != p)),
@@ -536,7 +536,7 @@ def cross_validate(estimator: Any, X: Any, y: Any, *, cv: Any = 5, scoring: Any 
 
 
 def _fold_frame(rows: list[tuple[int, int, int, float, float]], kind: str) -> Any:
-    arr = list(zip(*rows)) if rows else [[], [], [], [], []]
+    arr = list(zip(*rows, strict=False)) if rows else [[], [], [], [], []]
     return make_frame({
         "fold": Col(np.asarray(arr[0], dtype=np.int64)),
         "n_train": Col(np.asarray(arr[1], dtype=np.int64)),

@@ -190,7 +190,7 @@ def _resolve_target(log: Any, target: Any, percentile: float | None, limit: Any
                 v = _attr_values(t)
                 if v.dtype == object:
                     vals = {x for x in v.tolist() if x is not None}
-                    if not vals <= {True, False, 0, 1}:
+                    if not vals <= {True, False}:
                         raise _param("target", f"case attribute {target!r} is not boolean; pass "
                                                "a boolean array per case instead")
                     v = np.asarray([bool(x) if x is not None else False for x in v.tolist()])
@@ -469,7 +469,8 @@ def decision_points(log: Any, *, activities: Sequence[str] | None = None,
     ...     bike = "e-bike" if c % 2 else "city"
     ...     nxt = "Order parts" if bike == "e-bike" else "Repair"
     ...     t0 = pd.Timestamp("2025-01-01") + pd.Timedelta(hours=c)
-    ...     rows += [(f"r{c}", "Inspect", t0, bike), (f"r{c}", nxt, t0 + pd.Timedelta(hours=1), bike)]
+    ...     t1 = t0 + pd.Timedelta(hours=1)
+    ...     rows += [(f"r{c}", "Inspect", t0, bike), (f"r{c}", nxt, t1, bike)]
     >>> log = tm.EventLog.from_frame(pd.DataFrame(rows, columns=["case", "step", "at", "bike"]),
     ...                              case="case", activity="step", timestamp="at",
     ...                              case_attributes=["bike"])
@@ -525,10 +526,11 @@ def decision_points(log: Any, *, activities: Sequence[str] | None = None,
         est.fit(X, y_s)
         trees[a] = est
         rules[a] = est.rules(kind)
-        rows.append((a, int(sel.sum()), ", ".join(f"{lab} {c}" for lab, c in zip(labels, counts)),
+        succ = ", ".join(f"{lab} {c}" for lab, c in zip(labels, counts, strict=True))
+        rows.append((a, int(sel.sum()), succ,
                      float(counts.max() / counts.sum()), float(np.nanmean(sc)),
                      float(np.nanstd(sc)), how))
-    cols = list(zip(*rows)) if rows else [[]] * 7
+    cols = list(zip(*rows, strict=False)) if rows else [[]] * 7
     summary = make_frame({
         "activity": Col(np.asarray(cols[0], dtype=object)),
         "samples": Col(np.asarray(cols[1], dtype=np.int64)),

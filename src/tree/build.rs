@@ -11,7 +11,7 @@
 
 use rayon::prelude::*;
 
-use super::data::{check_weights, Features, Presorted, Target};
+use super::data::{check_weights, Features, Presorted, Rec, Target};
 use super::params::{FeatureKind, MissingPolicy, TreeParams, UnseenPolicy};
 use super::prune::prune_in_place;
 use super::split::{Ctx, Found, Rule, NO_SLOT};
@@ -92,8 +92,15 @@ pub fn fit(
             &ones
         }
     };
-    let pre = Presorted::new(x);
+    let pre = Presorted::new(x, classes_of(&target));
     grow(x, target, w, params, pre, ctl)
+}
+
+fn classes_of<'a>(t: &Target<'a>) -> &'a [u32] {
+    match t {
+        Target::Classes { y, .. } => y,
+        Target::Values(_) => &[],
+    }
 }
 
 fn check_crit(target: &Target<'_>, params: &TreeParams) -> TmResult<()> {
@@ -131,19 +138,17 @@ pub(crate) fn grow(
         Target::Classes { y, n_classes } => (y, Vec::new(), n_classes, n_classes, 0.0),
         Target::Values(v) => {
             // Centre the target on the mean of the samples used, for numerical stability.
-            let rows = &pre.order[..m];
-            let mean = if rows.is_empty() {
+            let mean = if m == 0 {
                 0.0
             } else {
-                rows.iter().map(|&i| v[i as usize]).sum::<f64>() / rows.len() as f64
+                pre.ids(0, 0, m).map(|i| v[i as usize]).sum::<f64>() / m as f64
             };
             (&[], v.iter().map(|y| y - mean).collect(), 3, 0, mean)
         }
     };
     let ctx = Ctx {
-        x: x.cols(),
-        n,
         kinds: x.kinds(),
+        weighted: w.iter().any(|&v| v != 1.0),
         yc,
         yv: &yv_owned,
         w,
@@ -163,13 +168,13 @@ pub(crate) fn grow(
         if let Some((p, slot)) = parent {
             nodes[p].children[slot] = id;
         }
-        let rows = &pre.order[lo..hi];
+        let rows = &pre.recs[lo..hi];
         let mut s = vec![0.0; dim];
         let mut counts = vec![0u64; n_classes];
-        for &i in rows {
-            ctx.add(&mut s, i as usize);
+        for r in rows {
+            ctx.add_rec(&mut s, r);
             if n_classes > 0 {
-                counts[yc[i as usize] as usize] += 1;
+                counts[r.c as usize] += 1;
             }
         }
         let wn = ctx.weight(&s);
@@ -204,7 +209,7 @@ pub(crate) fn grow(
         let mut children: Vec<(usize, usize)> = Vec::new();
         if can_split {
             let search =
-                |f: usize| ctx.best_split(f, &pre.order[f * m + lo..f * m + hi], &s, wn, imp);
+                |f: usize| ctx.best_split(f, &pre.recs[f * m + lo..f * m + hi], &s, wn, imp);
             let found: Vec<Option<Found>> = if size >= PAR_MIN {
                 (0..nf).into_par_iter().map(search).collect()
             } else {
@@ -221,15 +226,13 @@ pub(crate) fn grow(
                 if improvement + f64::EPSILON >= params.min_impurity_decrease {
                     let k = b.n_children;
                     let f = b.feature;
-                    let col = x.column(f);
                     let mslot = b.missing_slot.unwrap_or(0);
                     let mut cw = vec![0.0; k];
                     let mut cn = vec![0usize; k];
-                    for &i in &pre.order[f * m + lo..f * m + hi] {
-                        let v = col[i as usize];
-                        let sl = route(&b.rule, v, mslot);
-                        side[i as usize] = sl;
-                        cw[sl as usize] += w[i as usize];
+                    for r in &pre.recs[f * m + lo..f * m + hi] {
+                        let sl = route(&b.rule, r.v, mslot);
+                        side[r.i as usize] = sl;
+                        cw[sl as usize] += w[r.i as usize];
                         cn[sl as usize] += 1;
                     }
                     let missing_slot = match b.missing_slot {
@@ -301,12 +304,12 @@ fn route(rule: &Rule, v: f64, missing_slot: u8) -> u8 {
 /// Stable partition of every feature's `lo..hi` by `side`, children starting at `starts`.
 fn partition(pre: &mut Presorted, lo: usize, hi: usize, side: &[u8], starts: &[usize], par: bool) {
     let m = pre.m;
-    let job = |block: &mut [u32]| {
+    let job = |block: &mut [Rec]| {
         let seg = block[lo..hi].to_vec();
         let mut pos: Vec<usize> = starts[..starts.len() - 1].to_vec();
-        for i in seg {
-            let s = side[i as usize] as usize;
-            block[pos[s]] = i;
+        for r in seg {
+            let s = side[r.i as usize] as usize;
+            block[pos[s]] = r;
             pos[s] += 1;
         }
     };
@@ -314,9 +317,9 @@ fn partition(pre: &mut Presorted, lo: usize, hi: usize, side: &[u8], starts: &[u
         return;
     }
     if par {
-        pre.order.par_chunks_mut(m).for_each(job);
+        pre.recs.par_chunks_mut(m).for_each(job);
     } else {
-        pre.order.chunks_mut(m).for_each(job);
+        pre.recs.chunks_mut(m).for_each(job);
     }
 }
 
@@ -473,7 +476,7 @@ pub fn fit_predict_folds(
         Target::Classes { n_classes, .. } => n_classes,
         Target::Values(_) => 1,
     };
-    let pre = Presorted::new(x);
+    let pre = Presorted::new(x, classes_of(&target));
     let per_fold: Vec<TmResult<Vec<(usize, Vec<f64>)>>> = (0..n_folds)
         .into_par_iter()
         .map(|k| {
@@ -525,7 +528,7 @@ pub fn root_split_scores(
         }
         None => &ones,
     };
-    let pre = Presorted::new(x);
+    let pre = Presorted::new(x, classes_of(&target));
     let (yc, yv, dim): (&[u32], Vec<f64>, usize) = match target {
         Target::Classes { y, n_classes } => (y, Vec::new(), n_classes),
         Target::Values(v) => {
@@ -534,9 +537,8 @@ pub fn root_split_scores(
         }
     };
     let ctx = Ctx {
-        x: x.cols(),
-        n,
         kinds: x.kinds(),
+        weighted: w.iter().any(|&v| v != 1.0),
         yc,
         yv: &yv,
         w,
@@ -553,7 +555,7 @@ pub fn root_split_scores(
     Ok((0..x.n_features())
         .into_par_iter()
         .map(|f| {
-            ctx.best_split(f, &pre.order[f * n..(f + 1) * n], &s, wn, imp)
+            ctx.best_split(f, &pre.recs[f * n..(f + 1) * n], &s, wn, imp)
                 .map_or((f64::NAN, f64::NAN), |b| (b.gain, b.score))
         })
         .collect())
@@ -762,7 +764,7 @@ mod tests {
         assert_eq!(out.len(), 28);
         // fold 0 test rows predicted by a tree on fold-1 rows only
         let keep: Vec<bool> = fold.iter().map(|&k| k != 0).collect();
-        let sub = Presorted::new(&f).subset(&keep, 4);
+        let sub = Presorted::new(&f, &y).subset(&keep, 4);
         let tree = grow(&f, t, &[1.0; 14], &p, sub, &no_control()).unwrap();
         let (x, _) = play_tennis();
         let (leaves, _) = tree.apply(&x, 14, UnseenPolicy::Route, &[]).unwrap();

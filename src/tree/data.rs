@@ -226,60 +226,92 @@ pub(crate) fn check_weights(w: &[f64], n: usize) -> TmResult<()> {
     Ok(())
 }
 
-/// For each feature, the sample ids sorted by value (NaN last, ties by id): the presorted
-/// layout of SLIQ (Mehta, Agrawal, Rissanen 1996). Feature `f` occupies
-/// `order[f * m..(f + 1) * m]` where `m` is the number of samples kept.
+/// One entry of a presorted block: the feature value, the sample id and the class code (0 for
+/// regression). Carrying value and class in the block keeps the split scan sequential in
+/// memory instead of jumping to `x[i]` and `y[i]` for every sample.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Rec {
+    /// Feature value.
+    pub v: f64,
+    /// Sample id.
+    pub i: u32,
+    /// Class code (classification) or 0.
+    pub c: u32,
+}
+
+/// A `u64` whose order is the numeric order of `v`, with every NaN last.
+#[inline]
+fn order_key(v: f64) -> u64 {
+    if v.is_nan() {
+        return u64::MAX;
+    }
+    // -0.0 and 0.0 are one value
+    let b = (v + 0.0).to_bits();
+    if b >> 63 == 1 {
+        !b
+    } else {
+        b | (1 << 63)
+    }
+}
+
+/// For each feature, the samples sorted by value (NaN last, ties by id): the presorted layout
+/// of SLIQ (Mehta, Agrawal, Rissanen 1996). Feature `f` occupies `recs[f * m..(f + 1) * m]`
+/// where `m` is the number of samples kept.
 #[derive(Debug, Clone)]
 pub struct Presorted {
-    /// Sample ids, feature after feature.
-    pub order: Vec<u32>,
+    /// Sorted entries, feature after feature.
+    pub recs: Vec<Rec>,
     /// Number of samples per feature block.
     pub m: usize,
 }
 
 impl Presorted {
-    /// Sort every feature (in parallel over features).
-    pub fn new(x: &Features) -> Self {
+    /// Sort every feature (in parallel over features); `classes` gives each sample's class
+    /// code (empty for regression).
+    pub fn new(x: &Features, classes: &[u32]) -> Self {
         let n = x.n_samples();
-        let mut order = vec![0u32; n * x.n_features()];
-        order
-            .par_chunks_mut(n.max(1))
+        let mut recs = vec![Rec { v: 0.0, i: 0, c: 0 }; n * x.n_features()];
+        recs.par_chunks_mut(n.max(1))
             .enumerate()
             .for_each(|(f, block)| {
                 let col = x.column(f);
-                for (i, o) in block.iter_mut().enumerate() {
-                    *o = i as u32;
+                for (i, r) in block.iter_mut().enumerate() {
+                    *r = Rec {
+                        v: col[i],
+                        i: i as u32,
+                        c: classes.get(i).copied().unwrap_or(0),
+                    };
                 }
-                block.sort_unstable_by(|&a, &b| {
-                    let (va, vb) = (col[a as usize], col[b as usize]);
-                    va.is_nan()
-                        .cmp(&vb.is_nan())
-                        .then(va.total_cmp(&vb))
-                        .then(a.cmp(&b))
-                });
+                block.sort_unstable_by_key(|r| (order_key(r.v), r.i));
             });
-        Presorted { order, m: n }
+        Presorted { recs, m: n }
     }
 
     /// The same orders restricted to the samples with `keep[i]` (order preserved).
     pub fn subset(&self, keep: &[bool], n_features: usize) -> Self {
         let m = keep.iter().filter(|&&k| k).count();
-        let mut order = vec![0u32; m * n_features];
+        let mut recs = vec![Rec { v: 0.0, i: 0, c: 0 }; m * n_features];
         if m > 0 {
-            order
-                .par_chunks_mut(m)
-                .zip(self.order.par_chunks(self.m.max(1)))
+            recs.par_chunks_mut(m)
+                .zip(self.recs.par_chunks(self.m.max(1)))
                 .for_each(|(dst, src)| {
                     let mut k = 0;
-                    for &i in src {
-                        if keep[i as usize] {
-                            dst[k] = i;
+                    for r in src {
+                        if keep[r.i as usize] {
+                            dst[k] = *r;
                             k += 1;
                         }
                     }
                 });
         }
-        Presorted { order, m }
+        Presorted { recs, m }
+    }
+
+    /// Sample ids of block `f` in `lo..hi`.
+    pub fn ids(&self, f: usize, lo: usize, hi: usize) -> impl Iterator<Item = u32> + '_ {
+        self.recs[f * self.m + lo..f * self.m + hi]
+            .iter()
+            .map(|r| r.i)
     }
 }
 
@@ -334,10 +366,10 @@ mod tests {
         let f =
             Features::from_row_major(&x, 4, vec![FeatureKind::Numeric], MissingPolicy::Route, &[])
                 .unwrap();
-        let p = Presorted::new(&f);
-        assert_eq!(p.order, vec![2, 3, 0, 1]);
+        let p = Presorted::new(&f, &[]);
+        assert_eq!(p.ids(0, 0, 4).collect::<Vec<_>>(), vec![2, 3, 0, 1]);
         let s = p.subset(&[true, true, false, true], 1);
-        assert_eq!(s.order, vec![3, 0, 1]);
+        assert_eq!(s.ids(0, 0, 3).collect::<Vec<_>>(), vec![3, 0, 1]);
     }
 
     #[test]

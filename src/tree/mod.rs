@@ -47,7 +47,7 @@ pub mod prune;
 pub mod split;
 
 pub use build::{fit, fit_predict_folds, Node, Tree};
-pub use data::{Features, Presorted, Target};
+pub use data::{Features, Presorted, Rec, Target};
 pub use params::{
     CategoricalSplit, Criterion, FeatureKind, MissingPolicy, TreeParams, UnseenPolicy,
 };

@@ -14,6 +14,7 @@
 // Statistics vectors are updated in step by index; index loops read clearer here.
 #![allow(clippy::needless_range_loop)]
 
+use super::data::Rec;
 use super::params::{CategoricalSplit, Criterion, FeatureKind, TreeParams};
 
 /// Values closer than this are one value (as in scikit-learn).
@@ -23,16 +24,14 @@ pub const NO_SLOT: u8 = u8::MAX;
 
 /// The data a split search reads.
 pub(crate) struct Ctx<'a> {
-    /// Column-major feature values.
-    pub x: &'a [f64],
-    /// Rows per column of `x`.
-    pub n: usize,
     pub kinds: &'a [FeatureKind],
     /// Class codes (classification) or empty.
     pub yc: &'a [u32],
     /// Centred target values (regression) or empty.
     pub yv: &'a [f64],
     pub w: &'a [f64],
+    /// Whether `w` holds weights other than 1.
+    pub weighted: bool,
     /// Length of a statistics vector: classes, or 3 for regression.
     pub dim: usize,
     pub crit: Criterion,
@@ -73,6 +72,22 @@ impl Ctx<'_> {
             s[2] += w * y * y;
         } else {
             s[self.yc[i] as usize] += w;
+        }
+    }
+
+    /// Add a presorted entry (reads `w` and `yv` only when needed).
+    #[inline]
+    pub fn add_rec(&self, s: &mut [f64], r: &Rec) {
+        if self.yc.is_empty() {
+            let w = self.w[r.i as usize];
+            let y = self.yv[r.i as usize];
+            s[0] += w;
+            s[1] += w * y;
+            s[2] += w * y * y;
+        } else if self.weighted {
+            s[r.c as usize] += self.w[r.i as usize];
+        } else {
+            s[r.c as usize] += 1.0;
         }
     }
 
@@ -148,27 +163,26 @@ impl Ctx<'_> {
     pub fn best_split(
         &self,
         f: usize,
-        idx: &[u32],
+        idx: &[Rec],
         total: &[f64],
         w_node: f64,
         node_imp: f64,
     ) -> Option<Found> {
-        let col = &self.x[f * self.n..(f + 1) * self.n];
         let mut nm = idx.len();
-        while nm > 0 && col[idx[nm - 1] as usize].is_nan() {
+        while nm > 0 && idx[nm - 1].v.is_nan() {
             nm -= 1;
         }
         let mut miss = vec![0.0; self.dim];
-        for &i in &idx[nm..] {
-            self.add(&mut miss, i as usize);
+        for r in &idx[nm..] {
+            self.add_rec(&mut miss, r);
         }
         let n_miss = idx.len() - nm;
         match self.kinds[f] {
             FeatureKind::Numeric => {
-                self.numeric(f, col, &idx[..nm], n_miss, &miss, total, w_node, node_imp)
+                self.numeric(f, &idx[..nm], n_miss, &miss, total, w_node, node_imp)
             }
             FeatureKind::Categorical(m) => {
-                let cats = self.category_stats(col, &idx[..nm]);
+                let cats = self.category_stats(&idx[..nm]);
                 if self.params.categorical_split == CategoricalSplit::Multiway {
                     self.multiway(f, m, &cats, n_miss, &miss, w_node, node_imp)
                 } else {
@@ -182,8 +196,7 @@ impl Ctx<'_> {
     fn numeric(
         &self,
         f: usize,
-        col: &[f64],
-        idx: &[u32],
+        idx: &[Rec],
         n_miss: usize,
         miss: &[f64],
         total: &[f64],
@@ -213,13 +226,12 @@ impl Ctx<'_> {
         };
         let nm = idx.len();
         for p in 0..nm {
-            let i = idx[p] as usize;
-            self.add(&mut left, i);
+            self.add_rec(&mut left, &idx[p]);
             if p + 1 >= nm {
                 break;
             }
-            let v = col[i];
-            let vn = col[idx[p + 1] as usize];
+            let v = idx[p].v;
+            let vn = idx[p + 1].v;
             if vn <= v + FEATURE_THRESHOLD {
                 continue;
             }
@@ -265,18 +277,18 @@ impl Ctx<'_> {
     }
 
     /// `(code, stats, count)` of every category present among `idx` (sorted by code).
-    fn category_stats(&self, col: &[f64], idx: &[u32]) -> Vec<(u32, Vec<f64>, usize)> {
+    fn category_stats(&self, idx: &[Rec]) -> Vec<(u32, Vec<f64>, usize)> {
         let mut out: Vec<(u32, Vec<f64>, usize)> = Vec::new();
-        for &i in idx {
-            let c = col[i as usize] as u32;
+        for r in idx {
+            let c = r.v as u32;
             match out.last_mut() {
                 Some(last) if last.0 == c => {
-                    self.add(&mut last.1, i as usize);
+                    self.add_rec(&mut last.1, r);
                     last.2 += 1;
                 }
                 _ => {
                     let mut s = vec![0.0; self.dim];
-                    self.add(&mut s, i as usize);
+                    self.add_rec(&mut s, r);
                     out.push((c, s, 1));
                 }
             }
@@ -476,8 +488,18 @@ impl Ctx<'_> {
 mod tests {
     use super::*;
 
+    fn recs(x: &[f64], y: &[u32]) -> Vec<Rec> {
+        let mut r: Vec<Rec> = x
+            .iter()
+            .zip(y)
+            .enumerate()
+            .map(|(i, (&v, &c))| Rec { v, i: i as u32, c })
+            .collect();
+        r.sort_by(|a, b| a.v.is_nan().cmp(&b.v.is_nan()).then(a.v.total_cmp(&b.v)));
+        r
+    }
+
     fn ctx<'a>(
-        x: &'a [f64],
         kinds: &'a [FeatureKind],
         y: &'a [u32],
         w: &'a [f64],
@@ -485,12 +507,11 @@ mod tests {
         params: &'a TreeParams,
     ) -> Ctx<'a> {
         Ctx {
-            x,
-            n: y.len(),
             kinds,
             yc: y,
             yv: &[],
             w,
+            weighted: false,
             dim: 2,
             crit,
             params,
@@ -502,9 +523,9 @@ mod tests {
         // PlayTennis (Mitchell 1997, Table 3.2): 9 yes / 5 no; H = 0.940286, Gini = 0.459184
         // (values recomputed from the definitions, REFERENCES.md section E).
         let p = TreeParams::default();
-        let c = ctx(&[], &[], &[0], &[1.0], Criterion::Entropy, &p);
+        let c = ctx(&[], &[0], &[1.0], Criterion::Entropy, &p);
         assert!((c.impurity(&[9.0, 5.0], 14.0) - 0.940_285_958_670_631).abs() < 1e-12);
-        let c = ctx(&[], &[], &[0], &[1.0], Criterion::Gini, &p);
+        let c = ctx(&[], &[0], &[1.0], Criterion::Gini, &p);
         assert!((c.impurity(&[9.0, 5.0], 14.0) - 0.459_183_673_469_387_8).abs() < 1e-12);
     }
 
@@ -515,8 +536,8 @@ mod tests {
         let w = [1.0; 5];
         let kinds = [FeatureKind::Numeric];
         let p = TreeParams::default();
-        let c = ctx(&x, &kinds, &y, &w, Criterion::Gini, &p);
-        let idx = [0u32, 1, 2, 3, 4];
+        let c = ctx(&kinds, &y, &w, Criterion::Gini, &p);
+        let idx = recs(&x, &y);
         let total = [2.0, 3.0];
         let imp = c.impurity(&total, 5.0);
         let b = c.best_split(0, &idx, &total, 5.0, imp).unwrap();
@@ -533,8 +554,8 @@ mod tests {
         let w = [1.0; 6];
         let kinds = [FeatureKind::Categorical(3)];
         let p = TreeParams::default();
-        let c = ctx(&x, &kinds, &y, &w, Criterion::Gini, &p);
-        let idx = [0u32, 1, 2, 3, 4, 5];
+        let c = ctx(&kinds, &y, &w, Criterion::Gini, &p);
+        let idx = recs(&x, &y);
         let total = [4.0, 2.0];
         let imp = c.impurity(&total, 6.0);
         let b = c.best_split(0, &idx, &total, 6.0, imp).unwrap();
@@ -544,7 +565,7 @@ mod tests {
             categorical_split: CategoricalSplit::Multiway,
             ..TreeParams::default()
         };
-        let c = ctx(&x, &kinds, &y, &w, Criterion::Gini, &p);
+        let c = ctx(&kinds, &y, &w, Criterion::Gini, &p);
         let b = c.best_split(0, &idx, &total, 6.0, imp).unwrap();
         assert_eq!(b.n_children, 3);
         assert_eq!(b.rule, Rule::Slots(vec![0, 1, 2]));

@@ -9,7 +9,6 @@ import time
 
 import numpy as np
 import pytest
-
 import tracemill as tm
 
 pytestmark = pytest.mark.bench
