@@ -12,9 +12,10 @@
 use rayon::prelude::*;
 
 use super::data::{check_weights, Features, Presorted, Rec, Target};
+use super::params::Criterion;
 use super::params::{FeatureKind, MissingPolicy, TreeParams, UnseenPolicy};
 use super::prune::prune_in_place;
-use super::split::{Ctx, Found, Rule, NO_SLOT};
+use super::split::{xlogx_table, Ctx, Found, Rule, NO_SLOT};
 use crate::control::Control;
 use crate::error::{TmError, TmResult};
 
@@ -103,6 +104,13 @@ fn classes_of<'a>(t: &Target<'a>) -> &'a [u32] {
     }
 }
 
+fn n_classes_of(t: &Target<'_>) -> usize {
+    match t {
+        Target::Classes { n_classes, .. } => *n_classes,
+        Target::Values(_) => 0,
+    }
+}
+
 fn check_crit(target: &Target<'_>, params: &TreeParams) -> TmResult<()> {
     let cls = matches!(target, Target::Classes { .. });
     if cls != params.criterion.is_classification() {
@@ -146,9 +154,19 @@ pub(crate) fn grow(
             (&[], v.iter().map(|y| y - mean).collect(), 3, 0, mean)
         }
     };
+    let weighted = w.iter().any(|&v| v != 1.0);
+    let table = if !weighted
+        && n_classes_of(&target) > 0
+        && matches!(params.criterion, Criterion::Entropy | Criterion::GainRatio)
+    {
+        xlogx_table(n)
+    } else {
+        Vec::new()
+    };
     let ctx = Ctx {
         kinds: x.kinds(),
-        weighted: w.iter().any(|&v| v != 1.0),
+        weighted,
+        xlogx: &table,
         yc,
         yv: &yv_owned,
         w,
@@ -536,9 +554,19 @@ pub fn root_split_scores(
             (&[], v.iter().map(|y| y - mean).collect(), 3)
         }
     };
+    let weighted = w.iter().any(|&v| v != 1.0);
+    let table = if !weighted
+        && n_classes_of(&target) > 0
+        && matches!(params.criterion, Criterion::Entropy | Criterion::GainRatio)
+    {
+        xlogx_table(n)
+    } else {
+        Vec::new()
+    };
     let ctx = Ctx {
         kinds: x.kinds(),
-        weighted: w.iter().any(|&v| v != 1.0),
+        weighted,
+        xlogx: &table,
         yc,
         yv: &yv,
         w,

@@ -17,6 +17,19 @@
 use super::data::Rec;
 use super::params::{CategoricalSplit, Criterion, FeatureKind, TreeParams};
 
+/// The table `c log2 c` for `c = 0..=n` (see [`Ctx::xlogx`]).
+pub(crate) fn xlogx_table(n: usize) -> Vec<f64> {
+    (0..=n)
+        .map(|c| {
+            if c == 0 {
+                0.0
+            } else {
+                c as f64 * (c as f64).log2()
+            }
+        })
+        .collect()
+}
+
 /// Values closer than this are one value (as in scikit-learn).
 pub(crate) const FEATURE_THRESHOLD: f64 = 1e-7;
 /// Marks a category that did not occur in the node.
@@ -32,6 +45,9 @@ pub(crate) struct Ctx<'a> {
     pub w: &'a [f64],
     /// Whether `w` holds weights other than 1.
     pub weighted: bool,
+    /// `c log2 c` for integer counts `c = 0..=n`, used for the entropy of unweighted samples
+    /// (exact counts make a table lookup equal to the logarithm); empty otherwise.
+    pub xlogx: &'a [f64],
     /// Length of a statistics vector: classes, or 3 for regression.
     pub dim: usize,
     pub crit: Criterion,
@@ -114,6 +130,15 @@ impl Ctx<'_> {
                     q += p * p;
                 }
                 1.0 - q
+            }
+            Criterion::Entropy | Criterion::GainRatio if !self.xlogx.is_empty() => {
+                // H = log2 w - Σ c log2 c / w for integer counts
+                let t = self.xlogx;
+                let mut acc = t[w as usize];
+                for &c in s {
+                    acc -= t[c as usize];
+                }
+                (acc / w).max(0.0)
             }
             Criterion::Entropy | Criterion::GainRatio => {
                 let mut h = 0.0;
@@ -512,6 +537,7 @@ mod tests {
             yv: &[],
             w,
             weighted: false,
+            xlogx: &[],
             dim: 2,
             crit,
             params,
@@ -527,6 +553,16 @@ mod tests {
         assert!((c.impurity(&[9.0, 5.0], 14.0) - 0.940_285_958_670_631).abs() < 1e-12);
         let c = ctx(&[], &[0], &[1.0], Criterion::Gini, &p);
         assert!((c.impurity(&[9.0, 5.0], 14.0) - 0.459_183_673_469_387_8).abs() < 1e-12);
+    }
+
+    #[test]
+    fn entropy_table_equals_logarithms() {
+        let p = TreeParams::default();
+        let t = xlogx_table(20);
+        let mut c = ctx(&[], &[0], &[1.0], Criterion::Entropy, &p);
+        let direct = c.impurity(&[9.0, 5.0, 3.0], 17.0);
+        c.xlogx = &t;
+        assert!((c.impurity(&[9.0, 5.0, 3.0], 17.0) - direct).abs() < 1e-14);
     }
 
     #[test]
