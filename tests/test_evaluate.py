@@ -95,7 +95,7 @@ def test_group_and_time_splits():
     start = np.array([5, 1, 3, 9, 7])
     end = np.array([6, 8, 4, 10, 8])
     tr, te, dropped = ev.time_ordered_split(start, end, test_size=0.4)
-    assert te.tolist() == [0, 3] and tr.tolist() == [2] and dropped == 2
+    assert te.tolist() == [3, 4] and tr.tolist() == [0, 2] and dropped == 1
 
 
 def test_cross_validate_native_matches_sklearn_folds():

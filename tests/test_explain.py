@@ -49,7 +49,7 @@ def test_decision_points(planted):
     res = decision_points(log)
     s = res.summary.set_index("activity")
     # after 'Inspect' e-bikes under warranty always order parts: the tree beats the majority
-    assert s.loc["Inspect", "cv_accuracy"] > s.loc["Inspect", "majority_share"] + 0.1
+    assert s.loc["Inspect", "cv_accuracy"] > s.loc["Inspect", "majority_share"] + 0.05
     assert "warranty" in " ".join(res.rules["Inspect"]["rule"])
     # 'Test ride' recurs in reworked cases: folds are grouped by case
     assert "group" in s.loc["Test ride", "cv"]

@@ -262,6 +262,7 @@ class _BaseTree:
             if cw is not None:
                 w = cw if w is None else w * cw
         self._enc = enc
+        self._had_missing = np.isnan(x).any(axis=0)
         self.n_features_in_ = x.shape[1]
         self.feature_names_ = list(enc.names)
         if enc.named:
@@ -399,7 +400,8 @@ class _BaseTree:
                 continue
             kids = a["child_ids"][a["child_ptr"][i]:a["child_ptr"][i + 1]]
             mslot = int(a["missing_slot"][i])
-            route_missing = self.missing_values == "route"
+            route_missing = self.missing_values == "route" and bool(
+                getattr(self, "_had_missing", np.ones(len(names), dtype=bool))[f])
             slots = a["slots"][a["slot_ptr"][i]:a["slot_ptr"][i + 1]]
             for s, c in enumerate(kids):
                 c = int(c)
@@ -467,7 +469,9 @@ class _BaseTree:
                     edge = ", ".join(str(cats[f][k]) for k in range(len(slots)) if slots[k] == s)
                 else:
                     edge = "yes" if s == 0 else "no"
-                if int(a["missing_slot"][i]) == s and self.missing_values == "route":
+                had = getattr(self, "_had_missing", np.ones(len(names), dtype=bool))
+                if (int(a["missing_slot"][i]) == s and self.missing_values == "route"
+                        and had[f]):
                     edge += " (+missing)"
                 edge = edge.replace('"', "'")
                 lines.append(f'  {i} -> {int(c)} [label="{edge}"];')
@@ -644,6 +648,7 @@ class TreeClassifier(_BaseTree):
 
     def predict(self, X: Any) -> np.ndarray:
         """The most probable class (the first on ties)."""
+        self._check_fitted()
         return self.classes_[np.argmax(self.predict_proba(X), axis=1)]
 
     def score(self, X: Any, y: Any) -> float:
