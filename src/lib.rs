@@ -5,6 +5,8 @@
 //!
 //! * [`log`]: the event log, its derived views and selections;
 //! * [`sim`]: a process simulator that writes event logs with their ground truth;
+//! * [`tree`]: classification and regression trees;
+//! * [`eval`]: metrics, cross-validation splits, statistical tests, drift scans;
 //! * [`control`]: cancellation and progress for long kernels;
 //! * [`error`]: the error type shared by all kernels;
 //! * [`discover`]: process discovery (directly-follows, dependency, alpha, inductive);
@@ -18,9 +20,11 @@ pub mod conform;
 pub mod control;
 pub mod discover;
 pub mod error;
+pub mod eval;
 pub mod io;
 pub mod log;
 pub mod sim;
+pub mod tree;
 pub mod xes;
 
 #[cfg(feature = "python")]

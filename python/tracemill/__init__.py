@@ -10,7 +10,7 @@ you. Statistics, rules and trees describe associations in past data, not causes.
 
 from __future__ import annotations
 
-from . import _core
+from . import _core, drift, evaluate, explain, tree
 from .conform import align, precision, quality_table, simplicity, token_replay
 from .discover import (
     AlphaDiscovery,
@@ -36,6 +36,7 @@ from .exceptions import (
 from .log import EventLog
 from .models import DependencyGraph, DirectlyFollowsGraph, PetriNet, ProcessTree
 from .simulation import Truth, simulate, workshop, workshop_spec
+from .tree import TreeClassifier, TreeRegressor
 
 __version__: str = _core.__version__
 
@@ -61,15 +62,21 @@ __all__ = [
     "TracemillError",
     "TracemillIOError",
     "TracemillWarning",
+    "TreeClassifier",
+    "TreeRegressor",
     "Truth",
     "__version__",
     "align",
     "compare_directly_follows",
+    "drift",
+    "evaluate",
+    "explain",
     "precision",
     "quality_table",
     "simplicity",
     "simulate",
     "token_replay",
+    "tree",
     "workshop",
     "workshop_spec",
 ]

@@ -157,3 +157,127 @@ def read_xes_file(
 ) -> tuple[LogHandle, int, int, dict[str, Any], dict[str, Any]]: ...
 def read_xes_data(data: bytes) -> tuple[LogHandle, int, int, dict[str, Any], dict[str, Any]]: ...
 def write_xes_file(log: LogHandle, path: str, log_name: str | None = None) -> None: ...
+# --- trees (src/python/tree.rs) ---------------------------------------------------------------
+class TreeHandle:
+    @property
+    def n_leaves(self) -> int: ...
+    @property
+    def depth(self) -> int: ...
+    @property
+    def n_nodes(self) -> int: ...
+    def apply(
+        self, x: npt.NDArray[np.float64], unseen_categories: str, names: list[str]
+    ) -> tuple[npt.NDArray[np.int64], int]: ...
+    def feature_importances(self) -> npt.NDArray[np.float64]: ...
+    def pruning_path(self) -> tuple[npt.NDArray[np.float64], npt.NDArray[np.float64]]: ...
+    def prune(self, alpha: float) -> TreeHandle: ...
+    def arrays(self) -> dict[str, Any]: ...
+
+def tree_fit(
+    x: npt.NDArray[np.float64],
+    kinds: list[int],
+    names: list[str],
+    y_class: npt.NDArray[np.uint32] | None,
+    n_classes: int,
+    y_value: npt.NDArray[np.float64] | None,
+    sample_weight: npt.NDArray[np.float64] | None,
+    criterion: str,
+    max_depth: int | None,
+    min_samples_split: int,
+    min_samples_leaf: int,
+    min_impurity_decrease: float,
+    categorical_split: str,
+    missing_values: str,
+    ccp_alpha: float,
+    progress: Callable[[int, int], Any] | None = None,
+) -> TreeHandle: ...
+def tree_fold_predict(
+    x: npt.NDArray[np.float64],
+    kinds: list[int],
+    names: list[str],
+    y_class: npt.NDArray[np.uint32] | None,
+    n_classes: int,
+    y_value: npt.NDArray[np.float64] | None,
+    sample_weight: npt.NDArray[np.float64] | None,
+    fold: npt.NDArray[np.uint32],
+    n_folds: int,
+    criterion: str,
+    max_depth: int | None,
+    min_samples_split: int,
+    min_samples_leaf: int,
+    min_impurity_decrease: float,
+    categorical_split: str,
+    missing_values: str,
+    ccp_alpha: float,
+    progress: Callable[[int, int], Any] | None = None,
+) -> npt.NDArray[np.float64]: ...
+def tree_root_scores(
+    x: npt.NDArray[np.float64],
+    kinds: list[int],
+    names: list[str],
+    y_class: npt.NDArray[np.uint32] | None,
+    n_classes: int,
+    y_value: npt.NDArray[np.float64] | None,
+    sample_weight: npt.NDArray[np.float64] | None,
+    criterion: str,
+    categorical_split: str,
+    missing_values: str,
+    min_samples_leaf: int = 1,
+) -> tuple[npt.NDArray[np.float64], npt.NDArray[np.float64]]: ...
+def tree_from_arrays(
+    kinds: list[int],
+    n_classes: int,
+    missing_values: str,
+    feature: npt.NDArray[np.int64],
+    threshold: npt.NDArray[np.float64],
+    missing_slot: npt.NDArray[np.uint8],
+    child_ptr: npt.NDArray[np.int64],
+    child_ids: npt.NDArray[np.int64],
+    slot_ptr: npt.NDArray[np.int64],
+    slots: npt.NDArray[np.uint8],
+    depth: npt.NDArray[np.int64],
+    n_samples: npt.NDArray[np.int64],
+    weighted_n: npt.NDArray[np.float64],
+    impurity: npt.NDArray[np.float64],
+    value: npt.NDArray[np.float64],
+    counts: npt.NDArray[np.uint64],
+) -> TreeHandle: ...
+
+# --- evaluation and drift (src/python/eval.rs) ------------------------------------------------
+def confusion_scores(
+    y_true: npt.NDArray[np.uint32],
+    y_pred: npt.NDArray[np.uint32],
+    n_labels: int,
+    sample_weight: npt.NDArray[np.float64] | None = None,
+    zero_division: float = 0.0,
+) -> dict[str, Any]: ...
+def kfold_ids(n: int, n_splits: int, seed: int | None = None) -> npt.NDArray[np.uint32]: ...
+def stratified_ids(
+    y: npt.NDArray[np.uint32], n_splits: int, seed: int | None = None
+) -> npt.NDArray[np.uint32]: ...
+def group_ids(groups: npt.NDArray[np.uint32], n_splits: int) -> npt.NDArray[np.uint32]: ...
+def time_splits(
+    n: int,
+    n_splits: int,
+    test_size: int | None = None,
+    gap: int = 0,
+    max_train_size: int | None = None,
+) -> list[tuple[int, int, int, int]]: ...
+def table_test(table: npt.NDArray[np.float64], g: bool = False) -> tuple[float, int, float, int]: ...
+def ks_2samp(
+    a: npt.NDArray[np.float64], b: npt.NDArray[np.float64], exact_limit: int = 10_000_000
+) -> tuple[float, float]: ...
+def chi2_sf(x: float, dof: float) -> float: ...
+def drift_series(
+    log: LogHandle,
+    window: int,
+    step: int,
+    g_test: bool = False,
+    exact_limit: int = 10_000_000,
+    progress: Callable[[int, int], Any] | None = None,
+) -> tuple[
+    npt.NDArray[np.int64],
+    npt.NDArray[np.int64],
+    npt.NDArray[np.float64],
+    npt.NDArray[np.float64],
+]: ...

@@ -4,9 +4,11 @@
 mod convert;
 mod discover;
 mod errors;
+mod eval;
 mod log;
 mod run;
 mod sim;
+mod tree;
 mod xes;
 
 use pyo3::prelude::*;
@@ -49,6 +51,8 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(xes::read_xes_file, m)?)?;
     m.add_function(wrap_pyfunction!(xes::read_xes_data, m)?)?;
     m.add_function(wrap_pyfunction!(xes::write_xes_file, m)?)?;
+    tree::register(m)?;
+    eval::register(m)?;
     m.add_function(wrap_pyfunction!(_panic_for_test, m)?)?;
     m.add_function(wrap_pyfunction!(_sleep_for_test, m)?)?;
     Ok(())
