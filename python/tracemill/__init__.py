@@ -10,7 +10,7 @@ you. Statistics, rules and trees describe associations in past data, not causes.
 
 from __future__ import annotations
 
-from . import _core
+from . import _core, cluster, encode
 from .exceptions import (
     DataError,
     DataQualityWarning,
@@ -30,6 +30,8 @@ from .log import EventLog
 __version__: str = _core.__version__
 
 __all__ = [
+    "cluster",
+    "encode",
     "DataError",
     "DataQualityWarning",
     "EventLog",
