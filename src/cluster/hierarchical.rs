@@ -39,7 +39,7 @@
 //!
 //! **Output** is scipy's linkage matrix: row `r` is `[id1, id2, height, size]` with
 //! `id1 < id2`, ids `< n` the points and `n + r` the cluster made in row `r`, rows in order of
-//! non-decreasing height. `scipy.cluster.hierarchy.dendrogram` and `fcluster` accept it. With
+//! non-decreasing height (merge order for centroid and median, which can invert). `scipy.cluster.hierarchy.dendrogram` and `fcluster` accept it. With
 //! tied heights the row order may differ from scipy's while the partitions are the same.
 
 use rayon::prelude::*;
@@ -110,8 +110,12 @@ impl Linkage {
 
 /// Raw merge steps `(slot_a, slot_b, height, size)` to scipy's layout: stable sort by height,
 /// then relabel with a union–find so that the cluster made in row `r` is `n + r`.
-fn to_scipy(n: usize, mut steps: Vec<(usize, usize, f64, usize)>) -> Vec<f64> {
-    steps.sort_by(|a, b| a.2.total_cmp(&b.2));
+fn to_scipy(n: usize, mut steps: Vec<(usize, usize, f64, usize)>, sort: bool) -> Vec<f64> {
+    // Centroid and median linkage can produce inversions (a merge lower than an earlier one):
+    // their rows stay in merge order, as scipy keeps them.
+    if sort {
+        steps.sort_by(|a, b| a.2.total_cmp(&b.2));
+    }
     let mut parent: Vec<usize> = (0..2 * n).collect();
     let mut label: Vec<usize> = (0..n).collect(); // label of the root of each slot's set
     fn find(p: &mut [usize], mut x: usize) -> usize {
@@ -165,7 +169,11 @@ pub fn linkage_condensed(
         raw.push((sa, sb, h, size));
         slot_of.push(sa.max(sb));
     }
-    Ok(to_scipy(n, raw))
+    Ok(to_scipy(
+        n,
+        raw,
+        !matches!(method, Linkage::Centroid | Linkage::Median),
+    ))
 }
 
 /// Ward, centroid or median linkage straight from vectors (`n x d`, row-major) in `O(n d)`
@@ -246,7 +254,6 @@ pub fn linkage_vectors(
             let mut best = (f64::INFINITY, usize::MAX);
             for b in a + 1..n {
                 let v = sqeuclidean(&x[a * d..(a + 1) * d], &x[b * d..(b + 1) * d]);
-                let v = if method == Linkage::Ward { v } else { v };
                 if v < best.0 {
                     best = (v, b);
                 }
@@ -346,7 +353,7 @@ pub fn linkage_vectors(
         }
         ctl.advance(1);
     }
-    Ok(to_scipy(n, steps))
+    Ok(to_scipy(n, steps, method == Linkage::Ward))
 }
 
 /// Flat clusters from a scipy-layout linkage matrix: either exactly `n_clusters` groups (undo
