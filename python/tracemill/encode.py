@@ -444,8 +444,8 @@ class AttributeProfile(_Base):
                     raise _param("log", f"case attribute {a!r} was text in fit but is {kind} now")
                 index = {c: i for i, c in enumerate(s["cats"])}
                 remap = np.array([index.get(c, -1) for c in dict_], dtype=np.int64)
-                codes = remap[np.asarray(values, dtype=np.int64)] if len(remap) else \
-                    np.full(n, -1, dtype=np.int64)
+                raw = np.where(ok, np.asarray(values, dtype=np.int64), 0)
+                codes = remap[raw] if len(remap) else np.full(n, -1, dtype=np.int64)
                 codes = np.where(ok, codes, -1)
                 unseen += int(np.sum((codes < 0) & ok))
                 b = np.zeros((n, len(s["cats"])))
