@@ -8,7 +8,6 @@ from __future__ import annotations
 
 import numpy as np
 import pandas as pd
-
 import tracemill as tm
 
 ROUTES = {
@@ -45,6 +44,6 @@ def planted_log(n_cases: int = 600, seed: int = 0,
     log = tm.EventLog.from_frame(frame, case="order", activity="step", timestamp="at",
                                  case_attributes=["segment"])
     # map the planted segment to log case order
-    truth = dict(zip(frame["order"], frame["segment"]))
+    truth = dict(zip(frame["order"], frame["segment"], strict=False))
     seg_log = np.array([names.index(truth[c]) for c in log.case_ids])
     return log, seg_log

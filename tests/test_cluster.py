@@ -15,14 +15,13 @@ from pathlib import Path
 import numpy as np
 import pytest
 import scipy.cluster.hierarchy as sch
+import tracemill as tm
 from scipy.spatial.distance import pdist, squareform
 from sklearn import datasets, metrics
 from sklearn.base import clone
 from sklearn.cluster import DBSCAN as SkDBSCAN
 from sklearn.cluster import KMeans as SkKMeans
 from sklearn.cluster import kmeans_plusplus
-
-import tracemill as tm
 from tracemill.cluster import (
     DBSCAN,
     Agglomerative,
@@ -40,7 +39,7 @@ from tracemill.cluster import (
 )
 
 sys.path.insert(0, str(Path(__file__).parent))
-from _planted import planted_log  # noqa: E402
+from _planted import planted_log
 
 X6 = np.array([[1, 2], [1, 4], [1, 0], [10, 2], [10, 4], [10, 0]], dtype=float)
 P5 = np.array([[0, 0], [0, 1], [4, 0], [4, 2], [10, 0]], dtype=float)
@@ -213,7 +212,7 @@ def test_dbscan_border_rule_and_masks():
     # whichever cluster comes first in the input.
     A, B = [0.0, 0.1, 0.2, 0.3], [2.3, 2.4, 2.5, 2.6]
     for first, second in ((A, B), (B, A)):
-        X = np.array(first + [1.3] + second)[:, None]
+        X = np.array([*first, 1.3, *second])[:, None]
         ours = DBSCAN(eps=1.0, min_samples=4).fit(X)
         sk = SkDBSCAN(eps=1.0, min_samples=4).fit(X)
         np.testing.assert_array_equal(ours.labels_, sk.labels_)
@@ -294,7 +293,7 @@ def test_fasterpam_matches_kmedoids_package():
     rng = np.random.default_rng(8)
     X = np.vstack([rng.normal(c, 1.0, size=(100, 3)) for c in (0, 4, 8, 12)])
     D = squareform(pdist(X))
-    for k, seed in ((4, 0), (6, 1), (9, 2)):
+    for k, _seed in ((4, 0), (6, 1), (9, 2)):
         init = rng.choice(len(X), size=k, replace=False)
         ref = kmedoids.fasterpam(D, init.copy(), max_iter=100, init="random")
         ours = KMedoids(k, metric="precomputed", init=init).fit(D)
@@ -307,7 +306,7 @@ def test_fasterpam_matches_kmedoids_package():
 
 
 def test_kmedoids_on_a_log_returns_case_ids():
-    log, seg = planted_log(300, seed=3)
+    log, _seg = planted_log(300, seed=3)
     km = KMedoids(3, metric="levenshtein").fit(log)
     assert km.labels_.shape == (log.n_cases,)
     assert set(km.medoid_cases_) <= set(log.case_ids)
@@ -336,7 +335,8 @@ def _dp(a, b):
     d[0, :] = np.arange(len(b) + 1)
     for i in range(1, len(a) + 1):
         for j in range(1, len(b) + 1):
-            d[i, j] = min(d[i - 1, j] + 1, d[i, j - 1] + 1, d[i - 1, j - 1] + (a[i - 1] != b[j - 1]))
+            sub = d[i - 1, j - 1] + (a[i - 1] != b[j - 1])
+            d[i, j] = min(d[i - 1, j] + 1, d[i, j - 1] + 1, sub)
     return d[-1, -1]
 
 
@@ -375,7 +375,7 @@ def test_levenshtein_kitten_and_random_sequences():
     nd = edit_distances(log, by_variant=False, normalised=True)
     lens = [len(t) for t in tr]
     np.testing.assert_allclose(nd, [w / max(lens[i], lens[j]) for (i, j), w in zip(
-        [(i, j) for i in range(30) for j in range(i + 1, 30)], want)])
+        [(i, j) for i in range(30) for j in range(i + 1, 30)], want, strict=False)])
     # substitution costs of 2 make a substitution cost as much as delete + insert
     cost = np.full((len(names), len(names)), 2.0)
     np.fill_diagonal(cost, 0.0)
@@ -414,7 +414,7 @@ def test_planted_segments_are_recovered(how):
 
 
 def test_describe_and_split():
-    log, seg = planted_log(300, seed=2)
+    log, _seg = planted_log(300, seed=2)
     enc = tm.encode.ActivityProfile()
     X = enc.fit_transform(log)
     labels = KMeans(3, n_init=3, random_state=0).fit_predict(X)
@@ -454,7 +454,7 @@ def test_bad_input_errors():
     import pandas as pd
 
     frame = pd.DataFrame({"duration": [1.0, 2.0], "steps": [3.0, np.inf]})
-    with pytest.raises(tm.DataError, match="'steps'.*row 1"):
+    with pytest.raises(tm.DataError, match=r"'steps'.*row 1"):
         KMeans(1).fit(frame)
     with pytest.raises(tm.DataError, match="column '1'"):
         DBSCAN().fit([[0.0, np.nan]])
@@ -466,7 +466,7 @@ def test_bad_input_errors():
     with pytest.raises(tm.DataError, match="negative"):
         Agglomerative(metric="precomputed", linkage="average").fit([[0, -1], [-1, 0]])
     # memory budget
-    with pytest.raises(tm.LimitError, match="needs .* above the memory budget"):
+    with pytest.raises(tm.LimitError, match=r"needs .* above the memory budget"):
         pairwise_distances(np.zeros((2000, 2)), max_memory=1e6)
     with pytest.raises(tm.LimitError, match="needs"):
         KMedoids(2, max_memory=1e3).fit(np.random.default_rng(0).random((100, 2)))

@@ -11,9 +11,8 @@ import numpy as np
 import pandas as pd
 import pytest
 import scipy.sparse as sp
-from sklearn.feature_extraction.text import CountVectorizer, TfidfTransformer
-
 import tracemill as tm
+from sklearn.feature_extraction.text import CountVectorizer, TfidfTransformer
 from tracemill.encode import (
     ActivityProfile,
     AttributeProfile,
@@ -24,7 +23,9 @@ from tracemill.encode import (
 )
 
 sys.path.insert(0, str(Path(__file__).parent))
-from _planted import planted_log  # noqa: E402
+import itertools
+
+from _planted import planted_log
 
 
 def _traces(log):
@@ -70,7 +71,7 @@ def test_transition_and_ngram_profiles_match_countvectorizer(log):
     x = p.fit_transform(log).toarray()
     np.testing.assert_array_equal(x, _sk_counts(tr, 2, 2, p.feature_names_))
     # the vocabulary is exactly the set of pairs seen (pandas shift over the events)
-    pairs = {f"{a}>{b}" for t in tr for a, b in zip(t, t[1:])}
+    pairs = {f"{a}>{b}" for t in tr for a, b in itertools.pairwise(t)}
     assert set(p.feature_names_) == pairs
     q = NgramProfile(n=3, n_min=1)
     y = q.fit_transform(log).toarray()

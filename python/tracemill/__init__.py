@@ -30,8 +30,6 @@ from .log import EventLog
 __version__: str = _core.__version__
 
 __all__ = [
-    "cluster",
-    "encode",
     "DataError",
     "DataQualityWarning",
     "EventLog",
@@ -46,4 +44,6 @@ __all__ = [
     "TracemillIOError",
     "TracemillWarning",
     "__version__",
+    "cluster",
+    "encode",
 ]

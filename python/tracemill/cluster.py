@@ -207,7 +207,8 @@ def pairwise_distances(X: Any, metric: str = "euclidean", *, form: str = "conden
     assert m.dense is not None
     mb = int(max_memory)
     if form == "square" and 8.0 * m.n * m.n > mb:
-        raise LimitError(f"a square distance matrix of {m.n} rows needs {8.0 * m.n * m.n / 1e9:.1f} "
+        need = 8.0 * m.n * m.n / 1e9
+        raise LimitError(f"a square distance matrix of {m.n} rows needs {need:.1f} "
                          f"GB, above the memory budget max_memory={mb / 1e9:.1f} GB; use "
                          "form='condensed' (half the size), sample the rows, or raise max_memory")
     cond = _core.pairwise_condensed(m.dense, m.n, m.d, metric, mb, _progress(progress))
@@ -643,7 +644,7 @@ class Agglomerative(_Estimator):
         else:
             if self.metric == "precomputed" and np.ndim(X) == 1:
                 cond = np.ascontiguousarray(X, dtype=np.float64)
-                n = int(round((1 + np.sqrt(1 + 8 * len(cond))) / 2))
+                n = round((1 + np.sqrt(1 + 8 * len(cond))) / 2)
             elif self.metric == "levenshtein":
                 if not _is_log(X):
                     raise _param("metric", "metric='levenshtein' needs an EventLog as input")
@@ -659,7 +660,7 @@ class Agglomerative(_Estimator):
             else:
                 cond = pairwise_distances(X, self.metric, max_memory=self.max_memory,
                                           progress=prog)
-                n = int(round((1 + np.sqrt(1 + 8 * len(cond))) / 2))
+                n = round((1 + np.sqrt(1 + 8 * len(cond))) / 2)
             z = _core.linkage_condensed(cond, n, self.linkage, prog)
         self.linkage_matrix_ = z.reshape(n - 1, 4)
         self._n = n

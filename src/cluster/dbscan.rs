@@ -177,13 +177,13 @@ pub fn dbscan(
     weights: Option<&[f64]>,
     ctl: &Control,
 ) -> TmResult<DbscanFit> {
-    if !(eps > 0.0) || !eps.is_finite() {
+    if eps.is_nan() || eps <= 0.0 || !eps.is_finite() {
         return Err(TmError::param(
             "eps",
             format!("eps must be a finite number > 0; got {eps}"),
         ));
     }
-    if !(min_samples >= 1.0) {
+    if min_samples.is_nan() || min_samples < 1.0 {
         return Err(TmError::param(
             "min_samples",
             format!("min_samples must be >= 1; got {min_samples}"),

@@ -216,12 +216,10 @@ pub fn linkage_vectors(
     let nearest_above = |cen: &[f64], size: &[usize], active: &[bool], a: usize| -> (f64, usize) {
         let scan = |lo: usize, hi: usize| {
             let mut best = (f64::INFINITY, usize::MAX);
-            for b in lo..hi {
-                if active[b] {
-                    let v = dis(cen, size, a, b);
-                    if v < best.0 {
-                        best = (v, b);
-                    }
+            for (b, _) in active.iter().enumerate().take(hi).skip(lo).filter(|p| *p.1) {
+                let v = dis(cen, size, a, b);
+                if v < best.0 {
+                    best = (v, b);
                 }
             }
             best

@@ -675,7 +675,7 @@ pub fn fit(
             "max_iter must be at least 1; got 0",
         ));
     }
-    if !(params.tol >= 0.0) {
+    if params.tol.is_nan() || params.tol < 0.0 {
         return Err(TmError::param(
             "tol",
             format!("tol must be >= 0; got {}", params.tol),

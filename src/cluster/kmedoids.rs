@@ -250,8 +250,8 @@ fn build_init(mat: &Mat<'_>, w: &[f64], k: usize, ctl: &Control) -> TmResult<Vec
             }
         }
         med.push(pick.1);
-        for o in 0..n {
-            best_d[o] = best_d[o].min(mat.get(o, pick.1));
+        for (o, b) in best_d.iter_mut().enumerate() {
+            *b = b.min(mat.get(o, pick.1));
         }
     }
     Ok(med)

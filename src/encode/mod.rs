@@ -310,6 +310,9 @@ pub fn ngram_fit(
         .step_by(CHUNK)
         .map(|s| (s, (s + CHUNK).min(n)))
         .collect();
+    if n_min == 2 && n_max == 2 && n_ref * n_ref <= 1 << 16 {
+        return pair_fit(log, map, n_ref, max_features, &chunks, ctl);
+    }
     // Per chunk: key -> (count, document frequency).
     let partial: Vec<TmResult<FxMap<u64, (u64, u64)>>> = chunks
         .par_iter()
@@ -369,6 +372,70 @@ pub fn ngram_fit(
         v.codes.extend_from_slice(&g);
         v.offsets.push(v.codes.len());
         v.df.push(d);
+    }
+    Ok(v)
+}
+
+/// Directly-follows vocabulary over a small alphabet: dense per-chunk count tables instead of
+/// hashing (same result as the general path).
+fn pair_fit(
+    log: &EventLog,
+    map: &[u32],
+    n_ref: usize,
+    max_features: Option<usize>,
+    chunks: &[(usize, usize)],
+    ctl: &Control,
+) -> TmResult<NgramVocab> {
+    let cells = n_ref * n_ref;
+    let parts: Vec<TmResult<(Vec<u64>, Vec<u64>)>> = chunks
+        .par_iter()
+        .map(|&(s, e)| {
+            ctl.check()?;
+            let mut cnt = vec![0u64; cells];
+            let mut df = vec![0u64; cells];
+            let mut last = vec![u32::MAX; cells];
+            for c in s..e {
+                for w in log.trace(c).windows(2) {
+                    let (x, y) = (map[w[0] as usize], map[w[1] as usize]);
+                    if x != UNSEEN && y != UNSEEN {
+                        let j = x as usize * n_ref + y as usize;
+                        cnt[j] += 1;
+                        if last[j] != c as u32 {
+                            last[j] = c as u32;
+                            df[j] += 1;
+                        }
+                    }
+                }
+            }
+            ctl.advance((e - s) as u64);
+            Ok((cnt, df))
+        })
+        .collect();
+    let mut cnt = vec![0u64; cells];
+    let mut df = vec![0u64; cells];
+    for p in parts {
+        let (c, d) = p?;
+        cnt.iter_mut().zip(c).for_each(|(a, b)| *a += b);
+        df.iter_mut().zip(d).for_each(|(a, b)| *a += b);
+    }
+    let mut keep: Vec<usize> = (0..cells).filter(|&j| cnt[j] > 0).collect();
+    if let Some(m) = max_features {
+        if m < keep.len() {
+            keep.sort_by(|&a, &b| cnt[b].cmp(&cnt[a]).then(a.cmp(&b)));
+            keep.truncate(m);
+            keep.sort_unstable();
+        }
+    }
+    let mut v = NgramVocab {
+        offsets: vec![0],
+        codes: Vec::with_capacity(2 * keep.len()),
+        df: Vec::with_capacity(keep.len()),
+    };
+    for j in keep {
+        v.codes.push((j / n_ref) as u32);
+        v.codes.push((j % n_ref) as u32);
+        v.offsets.push(v.codes.len());
+        v.df.push(df[j]);
     }
     Ok(v)
 }
