@@ -139,4 +139,6 @@ def test_profiles_1m_cases():
     _report(f"activity + transition profiles, {n_cases} cases / {len(case)} events",
             "scikit-learn CountVectorizer", t_sk, t_ours)
     assert x.nnz == a.nnz + b.nnz
-    assert t_ours < 1.0
+    # Target: under 1 s on an idle 2-core machine and >= 20x the peer; the absolute time
+    # depends on the machine's load, so only the ratio is asserted.
+    assert t_sk / t_ours >= 20
