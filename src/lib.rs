@@ -7,6 +7,9 @@
 //! * [`sim`]: a process simulator that writes event logs with their ground truth;
 //! * [`tree`]: classification and regression trees;
 //! * [`eval`]: metrics, cross-validation splits, statistical tests, drift scans;
+//! * [`encode`]: trace encodings (activity, transition, n-gram and performance profiles);
+//! * [`distance`]: pairwise distances (vector metrics, edit distance), condensed or square;
+//! * [`cluster`]: k-means, k-medoids, hierarchical clustering, DBSCAN and quality indices;
 //! * [`control`]: cancellation and progress for long kernels;
 //! * [`error`]: the error type shared by all kernels;
 //! * [`discover`]: process discovery (directly-follows, dependency, alpha, inductive);
@@ -16,9 +19,12 @@
 
 #![warn(missing_docs)]
 
+pub mod cluster;
 pub mod conform;
 pub mod control;
 pub mod discover;
+pub mod distance;
+pub mod encode;
 pub mod error;
 pub mod eval;
 pub mod io;

@@ -7,6 +7,7 @@ from types import SimpleNamespace
 
 import numpy as np
 import pandas as pd
+
 import tracemill as tm
 
 HOUR = pd.Timedelta(hours=1)

@@ -4,9 +4,10 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-import tracemill as tm
 from _planted_logs import workshop_log
 from scipy import stats
+
+import tracemill as tm
 from tracemill.drift import chi2_sf, detect_drift, ks_test, table_test
 
 

@@ -4,13 +4,14 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-import tracemill as tm
 from sklearn import metrics as skm
 from sklearn.model_selection import GroupKFold as SkGroupKFold
 from sklearn.model_selection import KFold as SkKFold
 from sklearn.model_selection import StratifiedKFold as SkStratifiedKFold
 from sklearn.model_selection import TimeSeriesSplit
 from sklearn.tree import DecisionTreeClassifier
+
+import tracemill as tm
 from tracemill import evaluate as ev
 
 

@@ -5,8 +5,9 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-import tracemill as tm
 from _planted_logs import workshop_log
+
+import tracemill as tm
 from tracemill.explain import case_features, decision_points, demo_section, root_causes
 
 

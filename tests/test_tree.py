@@ -8,9 +8,10 @@ import pickle
 import numpy as np
 import pandas as pd
 import pytest
-import tracemill as tm
 from sklearn import datasets
 from sklearn.tree import DecisionTreeClassifier, DecisionTreeRegressor
+
+import tracemill as tm
 from tracemill.tree import split_scores
 
 # Mitchell, Machine Learning (1997), Table 3.2.

@@ -10,7 +10,7 @@ you. Statistics, rules and trees describe associations in past data, not causes.
 
 from __future__ import annotations
 
-from . import _core, drift, evaluate, explain, tree
+from . import _core, cluster, drift, encode, evaluate, explain, tree
 from .conform import align, precision, quality_table, simplicity, token_replay
 from .discover import (
     AlphaDiscovery,
@@ -67,8 +67,10 @@ __all__ = [
     "Truth",
     "__version__",
     "align",
+    "cluster",
     "compare_directly_follows",
     "drift",
+    "encode",
     "evaluate",
     "explain",
     "precision",

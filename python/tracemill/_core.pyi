@@ -263,7 +263,9 @@ def time_splits(
     gap: int = 0,
     max_train_size: int | None = None,
 ) -> list[tuple[int, int, int, int]]: ...
-def table_test(table: npt.NDArray[np.float64], g: bool = False) -> tuple[float, int, float, int]: ...
+def table_test(
+    table: npt.NDArray[np.float64], g: bool = False
+) -> tuple[float, int, float, int]: ...
 def ks_2samp(
     a: npt.NDArray[np.float64], b: npt.NDArray[np.float64], exact_limit: int = 10_000_000
 ) -> tuple[float, float]: ...
@@ -281,3 +283,140 @@ def drift_series(
     npt.NDArray[np.float64],
     npt.NDArray[np.float64],
 ]: ...
+# --- trace encoding, distances and clustering (tracemill.encode, tracemill.cluster) ---------
+def ngram_fit(
+    log: LogHandle,
+    map: npt.NDArray[np.uint32],
+    n_ref: int,
+    n_min: int,
+    n_max: int,
+    max_features: int | None = None,
+    progress: Callable[[int, int], Any] | None = None,
+) -> tuple[npt.NDArray[np.int64], npt.NDArray[np.uint32], npt.NDArray[np.uint64]]: ...
+def activity_vocab(
+    log: LogHandle, map: npt.NDArray[np.uint32], n_ref: int
+) -> tuple[npt.NDArray[np.int64], npt.NDArray[np.uint32], npt.NDArray[np.uint64]]: ...
+def ngram_transform(
+    log: LogHandle,
+    map: npt.NDArray[np.uint32],
+    n_ref: int,
+    vocab_offsets: npt.NDArray[np.int64],
+    vocab_codes: npt.NDArray[np.uint32],
+    binary: bool = False,
+    idf: npt.NDArray[np.float64] | None = None,
+    norm: str = "none",
+    progress: Callable[[int, int], Any] | None = None,
+) -> tuple[np.ndarray, npt.NDArray[np.int32], npt.NDArray[np.float64], int, int]: ...
+def performance_profile(
+    log: LogHandle, map: npt.NDArray[np.uint32], n_ref: int
+) -> tuple[npt.NDArray[np.float64], int]: ...
+def pairwise_condensed(
+    x: npt.NDArray[np.float64],
+    n: int,
+    d: int,
+    metric: str,
+    max_bytes: int,
+    progress: Callable[[int, int], Any] | None = None,
+) -> npt.NDArray[np.float64]: ...
+def squareform(
+    cond: npt.NDArray[np.float64], n: int, max_bytes: int
+) -> npt.NDArray[np.float64]: ...
+def edit_condensed(
+    offsets: npt.NDArray[np.int64],
+    codes: npt.NDArray[np.uint32],
+    sub_cost: npt.NDArray[np.float64] | None,
+    n_activities: int,
+    normalised: bool,
+    max_bytes: int,
+    progress: Callable[[int, int], Any] | None = None,
+) -> npt.NDArray[np.float64]: ...
+def check_square(m: npt.NDArray[np.float64], n: int) -> None: ...
+def kmeans_fit(
+    x: npt.NDArray[np.float64] | None,
+    indptr: npt.NDArray[np.int64] | None,
+    indices: npt.NDArray[np.int32] | None,
+    data: npt.NDArray[np.float64] | None,
+    n: int,
+    d: int,
+    weights: npt.NDArray[np.float64] | None,
+    n_clusters: int,
+    init: str,
+    init_centers: npt.NDArray[np.float64] | None,
+    n_init: int,
+    max_iter: int,
+    tol: float,
+    seed: int,
+    progress: Callable[[int, int], Any] | None = None,
+) -> tuple[npt.NDArray[np.float64], npt.NDArray[np.uint32], float, int]: ...
+def kmeans_predict(
+    x: npt.NDArray[np.float64] | None,
+    indptr: npt.NDArray[np.int64] | None,
+    indices: npt.NDArray[np.int32] | None,
+    data: npt.NDArray[np.float64] | None,
+    n: int,
+    d: int,
+    weights: npt.NDArray[np.float64] | None,
+    centers: npt.NDArray[np.float64],
+) -> tuple[npt.NDArray[np.uint32], float]: ...
+def fasterpam(
+    m: npt.NDArray[np.float64],
+    n: int,
+    n_clusters: int,
+    weights: npt.NDArray[np.float64] | None,
+    init: str,
+    init_medoids: npt.NDArray[np.int64] | None,
+    seed: int,
+    max_iter: int,
+    progress: Callable[[int, int], Any] | None = None,
+) -> tuple[npt.NDArray[np.int64], npt.NDArray[np.uint32], float, int, int]: ...
+def linkage_condensed(
+    cond: npt.NDArray[np.float64],
+    n: int,
+    method: str,
+    progress: Callable[[int, int], Any] | None = None,
+) -> npt.NDArray[np.float64]: ...
+def linkage_vectors(
+    x: npt.NDArray[np.float64],
+    n: int,
+    d: int,
+    method: str,
+    progress: Callable[[int, int], Any] | None = None,
+) -> npt.NDArray[np.float64]: ...
+def cut_linkage(
+    z: npt.NDArray[np.float64],
+    n: int,
+    n_clusters: int | None = None,
+    threshold: float | None = None,
+) -> npt.NDArray[np.int64]: ...
+def dbscan(
+    x: npt.NDArray[np.float64],
+    n: int,
+    d: int,
+    metric: str,
+    eps: float,
+    min_samples: float,
+    weights: npt.NDArray[np.float64] | None = None,
+    progress: Callable[[int, int], Any] | None = None,
+) -> tuple[npt.NDArray[np.int64], npt.NDArray[np.bool_]]: ...
+def silhouette_samples(
+    x: npt.NDArray[np.float64],
+    n: int,
+    d: int,
+    metric: str,
+    labels: npt.NDArray[np.int64],
+    progress: Callable[[int, int], Any] | None = None,
+) -> npt.NDArray[np.float64]: ...
+def mean_within_distance(
+    x: npt.NDArray[np.float64],
+    n: int,
+    d: int,
+    metric: str,
+    labels: npt.NDArray[np.int64],
+    progress: Callable[[int, int], Any] | None = None,
+) -> float: ...
+def davies_bouldin(
+    x: npt.NDArray[np.float64], n: int, d: int, labels: npt.NDArray[np.int64]
+) -> float: ...
+def calinski_harabasz(
+    x: npt.NDArray[np.float64], n: int, d: int, labels: npt.NDArray[np.int64]
+) -> float: ...

@@ -1,8 +1,10 @@
 //! Python bindings (`tracemill._core`). Thin wrappers: extract arrays, check them, run the
 //! kernel with the GIL released (see [`run`]), return owned numpy arrays.
 
+mod cluster;
 mod convert;
 mod discover;
+mod encode;
 mod errors;
 mod eval;
 mod log;
@@ -55,5 +57,29 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     eval::register(m)?;
     m.add_function(wrap_pyfunction!(_panic_for_test, m)?)?;
     m.add_function(wrap_pyfunction!(_sleep_for_test, m)?)?;
+    // trace encoding, distances and clustering
+    for f in [
+        wrap_pyfunction!(encode::ngram_fit, m)?,
+        wrap_pyfunction!(encode::activity_vocab, m)?,
+        wrap_pyfunction!(encode::ngram_transform, m)?,
+        wrap_pyfunction!(encode::performance_profile, m)?,
+        wrap_pyfunction!(encode::pairwise_condensed, m)?,
+        wrap_pyfunction!(encode::squareform, m)?,
+        wrap_pyfunction!(encode::edit_condensed, m)?,
+        wrap_pyfunction!(encode::check_square, m)?,
+        wrap_pyfunction!(cluster::kmeans_fit, m)?,
+        wrap_pyfunction!(cluster::kmeans_predict, m)?,
+        wrap_pyfunction!(cluster::fasterpam, m)?,
+        wrap_pyfunction!(cluster::linkage_condensed, m)?,
+        wrap_pyfunction!(cluster::linkage_vectors, m)?,
+        wrap_pyfunction!(cluster::cut_linkage, m)?,
+        wrap_pyfunction!(cluster::dbscan, m)?,
+        wrap_pyfunction!(cluster::silhouette_samples, m)?,
+        wrap_pyfunction!(cluster::mean_within_distance, m)?,
+        wrap_pyfunction!(cluster::davies_bouldin, m)?,
+        wrap_pyfunction!(cluster::calinski_harabasz, m)?,
+    ] {
+        m.add_function(f)?;
+    }
     Ok(())
 }

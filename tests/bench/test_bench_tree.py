@@ -9,6 +9,7 @@ import time
 
 import numpy as np
 import pytest
+
 import tracemill as tm
 
 pytestmark = pytest.mark.bench
