@@ -71,11 +71,15 @@ def summarise(log: EventLog, top: int = 5) -> str:
 
 def _sections() -> list[tuple[str, Any]]:
     """The demo sections contributed by the capability modules, in reading order."""
-    from . import discover
+    from . import cluster, discover, explain
 
     return [
-        ("2. Process models per planted segment, checked against the log",
+        ("2. Groups of cases that behave alike (clustering) against the planted segments",
+         lambda log, truth, out: cluster.demo_section(log, truth)),
+        ("3. Process models per segment, checked against the log",
          lambda log, truth, out: discover.demo_section(log, truth, out_dir=out)),
+        ("4. Why slow cases are slow, and when the process changed",
+         lambda log, truth, out: explain.demo_section(log, truth)),
     ]
 
 
