@@ -71,13 +71,24 @@ def summarise(log: EventLog, top: int = 5) -> str:
 
 def _sections() -> list[tuple[str, Any]]:
     """The demo sections contributed by the capability modules, in reading order."""
+    from types import SimpleNamespace
+
     from . import cluster, discover, explain
+
+    labels: list[Any] = []
+
+    def per_group(log: EventLog, truth: Any, out: Any) -> str:
+        # Models per cluster found in section 2 (per planted segment if clustering failed).
+        if labels:
+            k = int(labels[0].max()) + 1
+            truth = SimpleNamespace(segment=labels[0],
+                                    segment_names=[f"group {g}" for g in range(k)])
+        return discover.demo_section(log, truth, out_dir=out)
 
     return [
         ("2. Groups of cases that behave alike (clustering) against the planted segments",
-         lambda log, truth, out: cluster.demo_section(log, truth)),
-        ("3. Process models per segment, checked against the log",
-         lambda log, truth, out: discover.demo_section(log, truth, out_dir=out)),
+         lambda log, truth, out: cluster.demo_section(log, truth, labels_out=labels)),
+        ("3. Process models per group of cases, checked against the log", per_group),
         ("4. Why slow cases are slow, and when the process changed",
          lambda log, truth, out: explain.demo_section(log, truth)),
     ]

@@ -422,7 +422,7 @@ def compare_directly_follows(log_a: EventLog, log_b: EventLog, *, alpha: float =
 
 # ------------------------------------------------------------------------------ demo
 def demo_section(log: EventLog, truth: Any, out_dir: Any = None) -> str:
-    """The demo's discovery section: one model per planted segment, its fitness and precision,
+    """The demo's discovery section: one model per group of cases (``truth.segment`` labels), its fitness and precision,
     the diagrams written to ``out_dir`` (DOT always; SVG too when ``graphviz`` is installed),
     and the directly-follows steps that differ most between the two largest segments."""
     import os
@@ -431,7 +431,7 @@ def demo_section(log: EventLog, truth: Any, out_dir: Any = None) -> str:
     seg = np.asarray(truth.segment)
     names = list(truth.segment_names)
     parts = log.split(seg)
-    lines = ["Process models per segment (inductive discovery, noise threshold 0.2)"]
+    lines = ["Process models per group (inductive discovery, noise threshold 0.2)"]
     rows = []
     t0 = time.perf_counter()
     for k in sorted(parts):
@@ -457,9 +457,9 @@ def demo_section(log: EventLog, truth: Any, out_dir: Any = None) -> str:
                 m.net_.render(stem + "_net.svg")
             except Exception:
                 pass
-    widths = [max(len(r[i]) for r in [["segment", "cases", "replay fit", "align fit",
+    widths = [max(len(r[i]) for r in [["group", "cases", "replay fit", "align fit",
                                         "precision", "activities"], *rows]) for i in range(6)]
-    head = ["segment", "cases", "replay fit", "align fit", "precision", "activities"]
+    head = ["group", "cases", "replay fit", "align fit", "precision", "activities"]
     table = ["  " + "  ".join(h.ljust(w) for h, w in zip(head, widths, strict=False)),
              "  " + "  ".join("-" * w for w in widths)]
     table += ["  " + "  ".join(c.ljust(w) for c, w in zip(r, widths, strict=False)) for r in rows]

@@ -149,8 +149,8 @@ pub const WORKSHOP_JSON: &str = r#"{
          {"step": "Quote repair"},
          {"step": "Customer approves"},
          {"choice": [
-           {"label": "parts needed", "p": 0.1,
-            "by_segment": {"major overhaul": 0.8, "e-bike electrical": 0.35},
+           {"label": "parts needed", "p": 0.05,
+            "by_segment": {"major overhaul": 0.9, "e-bike electrical": 0.15},
             "by_attribute": [{"if": {"attr": "bike_type", "in": ["cargo"]}, "p": 0.7}],
             "then": {"sequence": [{"step": "Order parts"}, {"step": "Parts arrive"}]}}
          ]},
@@ -165,8 +165,8 @@ pub const WORKSHOP_JSON: &str = r#"{
            {"sequence": [
              {"step": "Repair brakes"},
              {"choice": [
-               {"label": "wheel truing", "p": 0.3,
-                "by_segment": {"major overhaul": 0.75, "e-bike electrical": 0.2},
+               {"label": "wheel truing", "p": 0.1,
+                "by_segment": {"major overhaul": 0.9, "e-bike electrical": 0.1},
                 "then": {"step": "True wheel"}}
              ]}
            ]}
