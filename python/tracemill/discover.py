@@ -422,9 +422,10 @@ def compare_directly_follows(log_a: EventLog, log_b: EventLog, *, alpha: float =
 
 # ------------------------------------------------------------------------------ demo
 def demo_section(log: EventLog, truth: Any, out_dir: Any = None) -> str:
-    """The demo's discovery section: one model per group of cases (``truth.segment`` labels), its fitness and precision,
-    the diagrams written to ``out_dir`` (DOT always; SVG too when ``graphviz`` is installed),
-    and the directly-follows steps that differ most between the two largest segments."""
+    """The demo's discovery section: one model per group of cases (``truth.segment`` labels),
+    its fitness and precision, the diagrams written to ``out_dir`` (DOT always; SVG too when
+    ``graphviz`` is installed), and the directly-follows steps that differ most between the two
+    largest groups."""
     import os
     import time
 
