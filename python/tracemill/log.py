@@ -472,7 +472,11 @@ class EventLog:
     def where(self, predicate: Callable[[Any], Any]) -> EventLog:
         """Cases for which ``predicate(case_table)`` is true (a boolean Series or array).
 
-        >>> # slow = log.where(lambda t: t["duration"] > pd.Timedelta(days=5))  # doctest: +SKIP
+        >>> import pandas as pd, tracemill as tm
+        >>> log, _ = tm.workshop(200, random_state=4)
+        >>> slow = log.where(lambda t: t["duration"] > pd.Timedelta(days=5))
+        >>> 0 < slow.n_cases < log.n_cases
+        True
         """
         mask = np.asarray(predicate(self.case_table()), dtype=bool)
         return self.select_cases(mask)
