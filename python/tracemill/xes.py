@@ -11,6 +11,10 @@ each construct becomes:
   boolean, date -> timestamp);
 * nested attributes (meta-attributes, ``list`` items, the pre-IEEE ``container`` type) are
   flattened to dotted keys: ``parent.child``, list items ``parent.0``, ``parent.1``, ...;
+* an attribute key that would hide another column of :meth:`EventLog.to_frame` or
+  :meth:`EventLog.case_table` (an event key ``case``, ``activity``, ``timestamp``, ``resource``
+  or ``lifecycle``; a trace key ``n_events``, ``start``, ...; the same key on traces and on
+  events) is kept as ``key#2`` with a :class:`DataQualityWarning`, the rule for a key met twice;
 * ``extension``, ``global`` and ``classifier`` declarations and log attributes are kept in
   :attr:`XesInfo.meta` (globals are reported, not filled into events);
 * unknown elements and empty traces are reported as :class:`DataQualityWarning`, not errors;
@@ -103,7 +107,9 @@ def write_xes(log: EventLog, path: str | os.PathLike[str], *, name: str | None =
     """Write ``log`` as an XES 2016-compatible file; gzip when the path ends in ``.gz``.
 
     Case ids are written as text (``concept:name`` of each trace) and timestamps in UTC with
-    all nanosecond digits.
+    all nanosecond digits. A text holding a character XML 1.0 cannot carry (most C0 controls,
+    U+FFFE, U+FFFF) raises :class:`DataError` naming the case and the attribute, and the
+    partly written file is removed.
     """
     _core.write_xes_file(log.handle, os.fspath(path), name)
 

@@ -1,5 +1,6 @@
 //! Bindings of the XES reader and writer (`crate::xes`).
 
+use std::collections::HashSet;
 use std::sync::Arc;
 
 use pyo3::prelude::*;
@@ -7,7 +8,7 @@ use pyo3::types::{PyDict, PyList};
 
 use super::log::PyLog;
 use super::run::run;
-use crate::log::EventLog;
+use crate::log::{CaseAttrs, Column, EventLog, LogInput};
 use crate::xes::{
     read_xes, read_xes_path_with, write_xes_path_with, XesLog, XesReadOptions, XesScope, XesValue,
     XesWriteOptions,
@@ -33,16 +34,78 @@ fn type_name(v: &XesValue) -> &'static str {
     }
 }
 
+/// Column names of the Python tables: `EventLog.to_frame` (`case`, `activity`, `timestamp`,
+/// `resource` and `lifecycle` when present) and `EventLog.case_table` (`start`, ...).
+const EVENT_TABLE: [&str; 3] = ["case", "activity", "timestamp"];
+const CASE_TABLE: [&str; 6] = ["start", "end", "duration", "n_events", "variant", "repeats"];
+
+/// Attributes keep their keys as column names in the Python tables, where event and case
+/// attributes sit beside the standard columns and each other. A key that would replace another
+/// column there (an event attribute `activity`, a trace attribute `n_events`, the same key on
+/// traces and on events) is renamed `key#2` (`#3`, ...), the reader's rule for a key met twice:
+/// trace attributes come first in the file, so the event attribute is the one renamed. Each
+/// rename is noted in `warnings`.
+fn rename_clashes(input: &mut LogInput, warnings: &mut Vec<String>) {
+    let mut standard: HashSet<String> = EVENT_TABLE.iter().map(|s| (*s).to_owned()).collect();
+    if input.resource.is_some() {
+        standard.insert("resource".into());
+    }
+    if input.lifecycle.is_some() {
+        standard.insert("lifecycle".into());
+    }
+    let case_cols: &mut [Column] = match &mut input.case_attrs {
+        CaseAttrs::PerRow(c) | CaseAttrs::PerCase(c) => c,
+        CaseAttrs::None => &mut [],
+    };
+    let mut used: HashSet<String> = standard.clone();
+    used.extend(CASE_TABLE.iter().map(|s| (*s).to_owned()));
+    used.extend(case_cols.iter().map(|c| c.name.clone()));
+    used.extend(input.event_attrs.iter().map(|c| c.name.clone()));
+    let mut rename = |col: &mut Column, what: &str, why: &str, used: &mut HashSet<String>| {
+        let new = (2..)
+            .map(|k| format!("{}#{k}", col.name))
+            .find(|n| !used.contains(n))
+            .unwrap_or_default();
+        warnings.push(format!(
+            "{what} '{}' is kept as column '{new}': {why}",
+            col.name
+        ));
+        used.insert(new.clone());
+        col.name = new;
+    };
+    let standard_name = "its key is the name of a standard column of the log's tables";
+    let mut case_names = HashSet::new();
+    for col in case_cols.iter_mut() {
+        if standard.contains(&col.name) || CASE_TABLE.contains(&col.name.as_str()) {
+            rename(col, "trace attribute", standard_name, &mut used);
+        }
+        case_names.insert(col.name.clone());
+    }
+    for col in &mut input.event_attrs {
+        if standard.contains(&col.name) {
+            rename(col, "event attribute", standard_name, &mut used);
+        } else if case_names.contains(&col.name) {
+            rename(
+                col,
+                "event attribute",
+                "a trace attribute has the same key",
+                &mut used,
+            );
+        }
+    }
+}
+
 /// Build the log and describe the file: `(handle, n_dup, n_reordered, meta, report)`.
 fn finish<'py>(
     py: Python<'py>,
     x: XesLog,
 ) -> PyResult<(PyLog, u64, u64, Bound<'py, PyDict>, Bound<'py, PyDict>)> {
     let XesLog {
-        input,
+        mut input,
         meta,
-        report,
+        mut report,
     } = x;
+    rename_clashes(&mut input, &mut report.warnings);
     let (log, rep) = run(py, None, move |_| EventLog::build(input))?;
     let m = PyDict::new(py);
     m.set_item("version", meta.version.clone())?;

@@ -1161,7 +1161,13 @@ pub fn read_xes_path_with(
     if let Ok(m) = f.metadata() {
         ctl.set_total(m.len());
     }
-    read_xes(BufReader::with_capacity(BUF_SIZE, f), opts, ctl)
+    // Name the file in read errors too (a directory opens, and fails on the first read).
+    read_xes(BufReader::with_capacity(BUF_SIZE, f), opts, ctl).map_err(|e| match e {
+        TmError::Io { message } => TmError::Io {
+            message: format!("XES file '{}': {message}", path.display()),
+        },
+        e => e,
+    })
 }
 
 /// Read an XES file (`.xes` or `.xes.gz`, detected by content) with default options.
@@ -1798,6 +1804,11 @@ pub(crate) mod tests {
         assert_eq!(read_xes_path(&p).unwrap().input.time.len(), 5);
         let missing = read_xes_path(dir.join("nope.xes")).unwrap_err();
         assert!(matches!(missing, TmError::Io { .. }) && missing.to_string().contains("nope.xes"));
+        let dir_err = read_xes_path(&dir).unwrap_err();
+        assert!(
+            matches!(dir_err, TmError::Io { .. }) && dir_err.to_string().contains("tracemill-xes"),
+            "{dir_err}"
+        );
         std::fs::remove_dir_all(&dir).unwrap();
     }
 

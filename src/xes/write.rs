@@ -191,7 +191,9 @@ fn prepare<'a>(cols: &'a [Column], reserved: &[&str], scope: &str) -> TmResult<V
             }
             let dict = match &col.values {
                 Values::Cat { dict, codes } => {
-                    if let Some(row) = codes.iter().position(|&c| c as usize >= dict.len()) {
+                    // Codes under nulls are unspecified (e.g. `u32::MAX`) and never read.
+                    let bad = |(i, &c): (usize, &u32)| c as usize >= dict.len() && col.is_valid(i);
+                    if let Some(row) = codes.iter().enumerate().position(bad) {
                         return Err(TmError::schema(
                             col.name.clone(),
                             Some(row as u64),
@@ -447,7 +449,8 @@ pub fn write_xes<W: Write>(log: &EventLog, w: W, opts: &XesWriteOptions) -> TmRe
 /// Write `log` to a file; gzip-compressed when the path ends in `.gz`.
 ///
 /// # Errors
-/// As [`write_xes`]; [`TmError::Io`] naming the path when it cannot be created.
+/// As [`write_xes`]; [`TmError::Io`] naming the path when it cannot be created. After an
+/// error the partly written file is removed.
 pub fn write_xes_path(log: &EventLog, path: impl AsRef<Path>) -> TmResult<()> {
     write_xes_path_with(log, path, &XesWriteOptions::default())
 }
@@ -470,15 +473,18 @@ pub fn write_xes_path_with(
     let gz = path
         .extension()
         .is_some_and(|e| e.eq_ignore_ascii_case("gz"));
-    if gz {
+    let written = if gz {
         let mut enc = GzEncoder::new(w, Compression::new(opts.gzip_level.min(9)));
-        write_xes(log, &mut enc, opts)?;
-        enc.finish().map_err(io)?.flush().map_err(io)
+        write_xes(log, &mut enc, opts).and_then(|()| enc.finish().map_err(io)?.flush().map_err(io))
     } else {
         let mut w = w;
-        write_xes(log, &mut w, opts)?;
-        w.flush().map_err(io)
+        write_xes(log, &mut w, opts).and_then(|()| w.flush().map_err(io))
+    };
+    if written.is_err() {
+        // A document cut short where the error struck must not pass for the log.
+        let _ = std::fs::remove_file(path);
     }
+    written
 }
 
 #[cfg(test)]
@@ -607,13 +613,39 @@ mod tests {
             vec!["a".into()],
             vec![0],
         );
-        input.event_attrs = vec![cat("note", &["x"], vec![3], None)];
-        let (log, _) = EventLog::build(input).unwrap();
+        let bad = cat("note", &["x"], vec![3], None);
+        input.event_attrs = vec![bad.clone()];
+        // `build` refuses the code; the writer checks again rather than trust its input.
+        assert!(EventLog::build(input.clone()).is_err());
+        input.event_attrs.clear();
+        let (mut log, _) = EventLog::build(input).unwrap();
+        log.event_attrs = vec![bad];
         let err = write(&log).unwrap_err();
         assert!(
             matches!(err, TmError::Schema { row: Some(0), .. }),
             "{err:?}"
         );
+    }
+
+    #[test]
+    fn codes_under_nulls_are_not_read() {
+        // The log leaves the code of a null text cell unspecified (frames give u32::MAX).
+        let mut input = LogInput::new(
+            vec![0, 0],
+            vec!["c".into()],
+            vec![0, 0],
+            vec!["a".into()],
+            vec![0, 1],
+        );
+        input.event_attrs = vec![cat(
+            "note",
+            &["x"],
+            vec![0, u32::MAX],
+            Some(vec![true, false]),
+        )];
+        let (log, _) = EventLog::build(input).unwrap();
+        let doc = write(&log).unwrap();
+        assert_eq!(doc.matches("key=\"note\"").count(), 1, "{doc}");
     }
 
     #[test]
@@ -672,6 +704,10 @@ mod tests {
             assert_eq!(bytes.starts_with(&[0x1f, 0x8b]), name.ends_with(".gz"));
             let x = crate::xes::read_xes_path(&p).unwrap();
             assert_eq!(x.input.time, [0, 1_500_000_000]);
+            // A failed write leaves no partial document behind.
+            let err = write_xes_path(&small_log("c", "bad\u{1}"), &p).unwrap_err();
+            assert!(matches!(err, TmError::Data { .. }), "{err:?}");
+            assert!(!p.exists());
         }
         std::fs::remove_dir_all(&dir).unwrap();
     }
