@@ -4,6 +4,8 @@
 //! [`python`](crate) (`src/python/`). Modules:
 //!
 //! * [`log`]: the event log, its derived views and selections;
+//! * [`rules`]: frequent itemsets and association rules;
+//! * [`sequences`]: sequential patterns and episodes;
 //! * [`control`]: cancellation and progress for long kernels;
 //! * [`error`]: the error type shared by all kernels.
 
@@ -12,6 +14,8 @@
 pub mod control;
 pub mod error;
 pub mod log;
+pub mod rules;
+pub mod sequences;
 
 #[cfg(feature = "python")]
 mod python;

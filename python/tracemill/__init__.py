@@ -26,10 +26,22 @@ from .exceptions import (
     TracemillWarning,
 )
 from .log import EventLog
+from .rules import (
+    AssociationRules,
+    FrequentItemsets,
+    Transactions,
+    association_rules,
+    frequent_itemsets,
+)
 
 __version__: str = _core.__version__
 
 __all__ = [
+    "AssociationRules",
+    "FrequentItemsets",
+    "Transactions",
+    "association_rules",
+    "frequent_itemsets",
     "DataError",
     "DataQualityWarning",
     "EventLog",

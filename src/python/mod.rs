@@ -4,7 +4,9 @@
 mod convert;
 mod errors;
 mod log;
+mod rules;
 mod run;
+mod sequences;
 
 use pyo3::prelude::*;
 
@@ -39,6 +41,14 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(log::build_log, m)?)?;
     m.add_function(wrap_pyfunction!(convert::factorize_utf8, m)?)?;
     m.add_function(wrap_pyfunction!(convert::factorize_i64, m)?)?;
+    m.add_class::<rules::PyTransactions>()?;
+    m.add_function(wrap_pyfunction!(rules::build_transactions, m)?)?;
+    m.add_function(wrap_pyfunction!(rules::mine_itemsets, m)?)?;
+    m.add_function(wrap_pyfunction!(rules::mine_rules, m)?)?;
+    m.add_function(wrap_pyfunction!(rules::rule_measures, m)?)?;
+    m.add_function(wrap_pyfunction!(sequences::mine_sequences, m)?)?;
+    m.add_function(wrap_pyfunction!(sequences::mine_episodes, m)?)?;
+    m.add_function(wrap_pyfunction!(sequences::mine_episode_rules, m)?)?;
     m.add_function(wrap_pyfunction!(_panic_for_test, m)?)?;
     m.add_function(wrap_pyfunction!(_sleep_for_test, m)?)?;
     Ok(())

@@ -1,0 +1,350 @@
+//! FP-Growth (Han, Pei & Yin 2000, "Mining frequent patterns without candidate generation",
+//! SIGMOD, 1–12).
+//!
+//! The method in four steps:
+//!
+//! 1. Count the items; keep the frequent ones and rank them by descending count (ties by item
+//!    code), so that frequent items sit near the root and paths share prefixes.
+//! 2. Insert each transaction, reduced to its frequent items in rank order, as a path of a
+//!    prefix tree (the *FP-tree*); every node counts the transactions whose path runs through
+//!    it. Here the tree is built without any per-node child map: the paths are sorted
+//!    lexicographically, so each path shares with the previous one exactly its longest common
+//!    prefix, and new nodes are appended to flat arrays (`item`, `parent`, `count`, all `u32`
+//!    indices or `u64` counts). A *header* lists the nodes of each item.
+//! 3. For each item `i`, its *conditional pattern base* is the set of root paths above the nodes
+//!    of `i`, each weighted by the node count. `prefix ∪ {i}` is frequent with count
+//!    `Σ count(node)`; the items frequent in the pattern base form a *conditional FP-tree*
+//!    that is mined recursively with prefix `prefix ∪ {i}`.
+//! 4. A tree that is a single path yields every combination of its nodes at once (the count of
+//!    a combination is that of its deepest node).
+//!
+//! The conditional trees of different top-level items are independent, so they are mined in
+//! parallel (one rayon task per frequent item).
+//!
+//! Example 6.5 of Han, Kamber & Pei (the conditional pattern base of I5 is {I2,I1:1},
+//! {I2,I1,I3:1}, giving {I2,I5}:2, {I1,I5}:2 and {I2,I1,I5}:2) is reproduced in the tests.
+
+use super::itemsets::{run_tasks, ItemsetParams, Itemsets, Sink};
+use super::transactions::Transactions;
+use crate::control::Control;
+use crate::error::{TmError, TmResult};
+
+const ROOT: u32 = 0;
+
+/// An FP-tree over item ranks `0..n_ranks`, flat arrays, node 0 the root.
+struct FpTree {
+    item: Vec<u32>,
+    parent: Vec<u32>,
+    count: Vec<u64>,
+    head_off: Vec<usize>,
+    head: Vec<u32>,
+}
+
+impl FpTree {
+    /// Build from weighted paths (each sorted by rank ascending). `paths` is CSR.
+    fn build(off: &[usize], items: &[u32], w: &[u64], n_ranks: usize) -> TmResult<FpTree> {
+        let n_paths = w.len();
+        let path = |k: usize| &items[off[k]..off[k + 1]];
+        let mut order: Vec<u32> = (0..n_paths as u32)
+            .filter(|&k| off[k as usize] < off[k as usize + 1])
+            .collect();
+        order.sort_unstable_by(|&a, &b| path(a as usize).cmp(path(b as usize)));
+        let mut t = FpTree {
+            item: vec![u32::MAX],
+            parent: vec![ROOT],
+            count: vec![0],
+            head_off: Vec::new(),
+            head: Vec::new(),
+        };
+        let mut stack: Vec<u32> = Vec::new();
+        let mut prev: &[u32] = &[];
+        for &k in &order {
+            let p = path(k as usize);
+            let wk = w[k as usize];
+            let lcp = p.iter().zip(prev).take_while(|(a, b)| a == b).count();
+            stack.truncate(lcp);
+            for &node in &stack {
+                t.count[node as usize] += wk;
+            }
+            for (d, &it) in p.iter().enumerate().skip(lcp) {
+                let id = u32::try_from(t.item.len()).map_err(|_| TmError::Limit {
+                    message: "an FP-tree would exceed 4 294 967 295 nodes; raise min_support"
+                        .into(),
+                })?;
+                t.item.push(it);
+                t.parent.push(if d == 0 { ROOT } else { stack[d - 1] });
+                t.count.push(wk);
+                stack.push(id);
+            }
+            prev = p;
+        }
+        // Header: nodes grouped by item (counting sort).
+        let mut head_off = vec![0usize; n_ranks + 1];
+        for &it in &t.item[1..] {
+            head_off[it as usize + 1] += 1;
+        }
+        for r in 0..n_ranks {
+            head_off[r + 1] += head_off[r];
+        }
+        let mut fill = head_off.clone();
+        let mut head = vec![0u32; t.item.len() - 1];
+        for node in 1..t.item.len() {
+            let it = t.item[node] as usize;
+            head[fill[it]] = node as u32;
+            fill[it] += 1;
+        }
+        t.head_off = head_off;
+        t.head = head;
+        Ok(t)
+    }
+
+    fn nodes_of(&self, r: usize) -> &[u32] {
+        &self.head[self.head_off[r]..self.head_off[r + 1]]
+    }
+
+    /// Whether every node has at most one child (nodes were appended depth-first, so a chain
+    /// is exactly `parent[k] == k - 1`).
+    fn is_single_path(&self) -> bool {
+        (1..self.item.len()).all(|k| self.parent[k] as usize == k - 1)
+    }
+}
+
+/// Context of one mining task.
+struct Ctx<'a> {
+    min: u64,
+    max_len: usize,
+    code: &'a [u32],
+}
+
+/// Mine the tree with the given prefix (item codes). `Ok(false)`: stop quietly.
+fn mine_tree(
+    t: &FpTree,
+    n_ranks: usize,
+    prefix: &mut Vec<u32>,
+    cx: &Ctx<'_>,
+    sink: &mut Sink<'_>,
+) -> TmResult<bool> {
+    if t.item.len() <= 1 {
+        return Ok(true);
+    }
+    if t.is_single_path() {
+        return emit_path(t, prefix, cx, sink);
+    }
+    for r in (0..n_ranks).rev() {
+        if !mine_item(t, r, prefix, cx, sink)? {
+            return Ok(false);
+        }
+    }
+    Ok(true)
+}
+
+/// Emit `prefix ∪ {r}` and mine its conditional tree.
+fn mine_item(
+    t: &FpTree,
+    r: usize,
+    prefix: &mut Vec<u32>,
+    cx: &Ctx<'_>,
+    sink: &mut Sink<'_>,
+) -> TmResult<bool> {
+    let nodes = t.nodes_of(r);
+    let support: u64 = nodes.iter().map(|&n| t.count[n as usize]).sum();
+    if support < cx.min {
+        return Ok(true);
+    }
+    prefix.push(cx.code[r]);
+    let go = sink.emit(prefix, support)?;
+    if !go {
+        prefix.pop();
+        return Ok(false);
+    }
+    if prefix.len() < cx.max_len && r > 0 {
+        // Conditional pattern base: paths above the nodes of r, weighted by node counts.
+        let mut local = vec![0u64; r];
+        for &n in nodes {
+            let c = t.count[n as usize];
+            let mut a = t.parent[n as usize];
+            while a != ROOT {
+                local[t.item[a as usize] as usize] += c;
+                a = t.parent[a as usize];
+            }
+        }
+        if local.iter().any(|&c| c >= cx.min) {
+            let mut off = Vec::with_capacity(nodes.len() + 1);
+            off.push(0usize);
+            let mut items = Vec::new();
+            let mut w = Vec::with_capacity(nodes.len());
+            for &n in nodes {
+                let start = items.len();
+                let mut a = t.parent[n as usize];
+                while a != ROOT {
+                    let it = t.item[a as usize];
+                    if local[it as usize] >= cx.min {
+                        items.push(it);
+                    }
+                    a = t.parent[a as usize];
+                }
+                items[start..].reverse();
+                off.push(items.len());
+                w.push(t.count[n as usize]);
+            }
+            let cond = FpTree::build(&off, &items, &w, r)?;
+            if !mine_tree(&cond, r, prefix, cx, sink)? {
+                prefix.pop();
+                return Ok(false);
+            }
+        }
+    }
+    prefix.pop();
+    Ok(true)
+}
+
+/// A single-path tree: every non-empty combination of its nodes (up to `max_len` in total).
+fn emit_path(
+    t: &FpTree,
+    prefix: &mut Vec<u32>,
+    cx: &Ctx<'_>,
+    sink: &mut Sink<'_>,
+) -> TmResult<bool> {
+    // Chain nodes 1..len; counts are non-increasing with depth.
+    let chain: Vec<usize> = (1..t.item.len())
+        .filter(|&k| t.count[k] >= cx.min)
+        .collect();
+    let room = cx.max_len.saturating_sub(prefix.len());
+    // Depth-first over combinations, deepest chosen node last; count = count of that node.
+    fn rec(
+        t: &FpTree,
+        chain: &[usize],
+        start: usize,
+        room: usize,
+        prefix: &mut Vec<u32>,
+        cx: &Ctx<'_>,
+        sink: &mut Sink<'_>,
+    ) -> TmResult<bool> {
+        if room == 0 {
+            return Ok(true);
+        }
+        for k in start..chain.len() {
+            let node = chain[k];
+            prefix.push(cx.code[t.item[node] as usize]);
+            let go = sink.emit(prefix, t.count[node])?
+                && rec(t, chain, k + 1, room - 1, prefix, cx, sink)?;
+            prefix.pop();
+            if !go {
+                return Ok(false);
+            }
+        }
+        Ok(true)
+    }
+    rec(t, &chain, 0, room, prefix, cx, sink)
+}
+
+/// Frequent itemsets by FP-Growth (not yet in canonical order).
+pub(crate) fn mine(
+    t: &Transactions,
+    p: &ItemsetParams,
+    min: u64,
+    ctl: &Control,
+) -> TmResult<Itemsets> {
+    let counts = t.item_counts();
+    let mut freq: Vec<u32> = (0..t.n_items() as u32)
+        .filter(|&i| counts[i as usize] >= min)
+        .collect();
+    freq.sort_by(|&a, &b| counts[b as usize].cmp(&counts[a as usize]).then(a.cmp(&b)));
+    let mut rank = vec![u32::MAX; t.n_items()];
+    for (r, &i) in freq.iter().enumerate() {
+        rank[i as usize] = r as u32;
+    }
+    let n_ranks = freq.len();
+    // Transactions as rank paths.
+    let mut off = Vec::with_capacity(t.len() + 1);
+    off.push(0usize);
+    let mut items = Vec::with_capacity(t.items().len());
+    for k in 0..t.len() {
+        let s = items.len();
+        items.extend(
+            t.get(k)
+                .iter()
+                .map(|&i| rank[i as usize])
+                .filter(|&r| r != u32::MAX),
+        );
+        items[s..].sort_unstable();
+        off.push(items.len());
+    }
+    let w = vec![1u64; t.len()];
+    ctl.check()?;
+    let tree = FpTree::build(&off, &items, &w, n_ranks)?;
+    drop(items);
+    let cx = Ctx {
+        min,
+        max_len: p.max_len.unwrap_or(usize::MAX),
+        code: &freq,
+    };
+    // One task per frequent item; the rarest items have the smallest conditional trees.
+    run_tasks(n_ranks, p, min, t.len(), ctl, |k, sink| {
+        let mut prefix = Vec::new();
+        mine_item(&tree, n_ranks - 1 - k, &mut prefix, &cx, sink)
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::super::itemsets::tests::{as_pairs, brute, hkp, random_db};
+    use super::super::itemsets::{canonical, frequent_itemsets, Algorithm};
+    use super::super::transactions::MinSupport;
+    use super::*;
+
+    #[test]
+    fn tree_shares_prefixes() {
+        // Han, Pei & Yin 2000, Table 1 / Fig. 1: the FP-tree of the five transactions at ξ = 3
+        // (transactions from memory) has 10 nodes besides the root... we check node totals.
+        let t =
+            Transactions::from_lists(&[vec![0, 1, 2], vec![0, 1], vec![0, 2], vec![3]], 4).unwrap();
+        let off = [0usize, 3, 5, 7, 8];
+        let items = [0u32, 1, 2, 0, 1, 0, 2, 3];
+        let tree = FpTree::build(&off, &items, &[1, 1, 1, 1], 4).unwrap();
+        // root, 0, 0-1, 0-1-2, 0-2, 3
+        assert_eq!(tree.item.len(), 6);
+        assert_eq!(tree.count[1], 3);
+        assert!(!tree.is_single_path());
+        assert_eq!(t.len(), 4);
+    }
+
+    #[test]
+    fn hkp_conditional_base_of_i5() {
+        // Han, Kamber & Pei Example 6.5: itemsets ending in I5 (code 4).
+        let t = hkp();
+        let p = ItemsetParams::new(MinSupport::Count(2));
+        let r = canonical(mine(&t, &p, 2, &Control::new()).unwrap());
+        let with5: Vec<_> = as_pairs(&r)
+            .into_iter()
+            .filter(|x| x.0.contains(&4))
+            .collect();
+        assert_eq!(
+            with5,
+            vec![
+                (vec![4], 2),
+                (vec![0, 4], 2),
+                (vec![1, 4], 2),
+                (vec![0, 1, 4], 2)
+            ]
+        );
+    }
+
+    #[test]
+    fn single_path_and_thread_independence() {
+        let t =
+            Transactions::from_lists(&[vec![0, 1, 2, 3], vec![0, 1, 2], vec![0, 1]], 4).unwrap();
+        let mut p = ItemsetParams::new(MinSupport::Count(1));
+        p.algorithm = Algorithm::FpGrowth;
+        let r = frequent_itemsets(&t, &p, &Control::new()).unwrap();
+        assert_eq!(as_pairs(&r), brute(&t, 1));
+        let t = random_db(9, 300, 10);
+        let a = frequent_itemsets(&t, &p, &Control::new()).unwrap();
+        let pool = rayon::ThreadPoolBuilder::new()
+            .num_threads(1)
+            .build()
+            .unwrap();
+        let b = pool.install(|| frequent_itemsets(&t, &p, &Control::new()).unwrap());
+        assert_eq!(a, b);
+    }
+}
