@@ -26,6 +26,12 @@ from .exceptions import (
     TracemillWarning,
 )
 from .log import EventLog
+from .sequences import (
+    Episodes,
+    SequentialPatterns,
+    frequent_episodes,
+    frequent_sequences,
+)
 from .rules import (
     AssociationRules,
     FrequentItemsets,
@@ -38,6 +44,10 @@ __version__: str = _core.__version__
 
 __all__ = [
     "AssociationRules",
+    "Episodes",
+    "SequentialPatterns",
+    "frequent_episodes",
+    "frequent_sequences",
     "FrequentItemsets",
     "Transactions",
     "association_rules",
