@@ -424,11 +424,16 @@ def frequent_episodes(data: Any, window: Any, *, kind: Literal["serial", "parall
     >>> import tracemill as tm
     >>> ep = tm.frequent_episodes([[("A", 1), ("B", 2), ("A", 4), ("C", 5), ("B", 6)]],
     ...                           window=3, min_frequency=0.3)
-    >>> ep.to_frame()[["episode", "windows"]]
-      episode  windows
-    0    (A,)      5.0
-    1    (B,)      5.0
-    2  (A, B)      3.0
+    >>> ep.to_frame()[["episode", "frequency", "windows"]]
+      episode  frequency  windows
+    0    (A,)      0.750      6.0
+    1    (B,)      0.750      6.0
+    2    (C,)      0.375      3.0
+    3  (A, B)      0.375      3.0
+    >>> ep.rules(0.5)
+      antecedent episode  confidence
+    0       (A,)  (A, B)         0.5
+    1       (B,)  (A, B)         0.5
     """
     if kind not in ("serial", "parallel"):
         raise _param("kind", f"The 'kind' parameter must be 'serial' or 'parallel'. Got "

@@ -199,11 +199,11 @@ pub struct Episodes {
 impl Episodes {
     /// Number of episodes.
     pub fn len(&self) -> usize {
-        self.frequency.len()
+        self.offsets.len().saturating_sub(1)
     }
     /// Whether there is none.
     pub fn is_empty(&self) -> bool {
-        self.frequency.is_empty()
+        self.len() == 0
     }
     /// The types of episode `i`.
     pub fn get(&self, i: usize) -> &[u32] {
