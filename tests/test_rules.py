@@ -9,7 +9,6 @@ import warnings
 import numpy as np
 import pandas as pd
 import pytest
-
 import tracemill as tm
 
 HKP = [["I1", "I2", "I5"], ["I2", "I4"], ["I2", "I3"], ["I1", "I2", "I4"], ["I1", "I3"],
@@ -24,7 +23,7 @@ ALGS = ["fpgrowth", "eclat", "apriori"]
 
 def as_dict(fi: tm.FrequentItemsets) -> dict[frozenset, int]:
     f = fi.to_frame()
-    return {frozenset(s): int(c) for s, c in zip(f["itemset"], f["count"])}
+    return {frozenset(s): int(c) for s, c in zip(f["itemset"], f["count"], strict=False)}
 
 
 # ---------------------------------------------------------------- published examples
@@ -51,7 +50,7 @@ def test_han_kamber_pei_rules_of_i1_i2_i5():
     r = tm.association_rules(fi, min_confidence=0.0).to_frame()
     assert len(r) == 24
     key = {(frozenset(a), frozenset(c)): row for a, c, row in
-           zip(r["antecedent"], r["consequent"], r.itertuples())}
+           zip(r["antecedent"], r["consequent"], r.itertuples(), strict=False)}
     want = [("I1 I2", "I5", 0.5), ("I1 I5", "I2", 1.0), ("I2 I5", "I1", 1.0),
             ("I1", "I2 I5", 1 / 3), ("I2", "I1 I5", 2 / 7), ("I5", "I1 I2", 1.0)]
     for a, c, conf in want:
@@ -139,7 +138,7 @@ def test_itemsets_match_mlxtend_and_pyfim(seed, skew):
     for supp in (0.02, 0.05, 0.1):
         want = mlx.fpgrowth(df, min_support=supp, use_colnames=True)
         want_d = {frozenset(s): round(v * len(baskets)) for s, v in
-                  zip(want["itemsets"], want["support"])}
+                  zip(want["itemsets"], want["support"], strict=False)}
         count = int(np.ceil(supp * len(baskets) - 1e-9))
         relim = {frozenset(s): c for s, c in fim.relim(baskets, target="s", supp=-count,
                                                        report="a")}
@@ -167,7 +166,7 @@ def test_rules_match_mlxtend_measures():
     got = tm.association_rules(fi, min_confidence=0.3).to_frame()
     assert len(got) == len(want)
     g = {(frozenset(a), frozenset(c)): r for a, c, r in
-         zip(got["antecedent"], got["consequent"], got.to_dict("records"))}
+         zip(got["antecedent"], got["consequent"], got.to_dict("records"), strict=False)}
     pairs = [("support", "support"), ("confidence", "confidence"), ("lift", "lift"),
              ("leverage", "leverage"), ("conviction", "conviction"), ("jaccard", "jaccard"),
              ("kulczynski", "kulczynski"), ("certainty", "certainty"),
@@ -193,7 +192,8 @@ def test_rules_count_matches_pyfim_arules():
     single = got[got["consequent"].map(len) == 1]
     want_d = {(frozenset(b), h): (a, s) for h, b, a, s in want}
     got_d = {(frozenset(a), c[0]): (nxy, nx) for a, c, nxy, nx in
-             zip(single["antecedent"], single["consequent"], single["n_xy"], single["n_x"])}
+             zip(single["antecedent"], single["consequent"], single["n_xy"], single["n_x"],
+                 strict=True)}
     assert got_d == want_d
 
 
@@ -343,3 +343,30 @@ def test_text_rendering():
     fi = tm.frequent_itemsets(tm.Transactions.from_lists(TSK), 2)
     text = tm.association_rules(fi, consequent="Beer", min_confidence=0.5).describe(2)
     assert "-> {Beer}" in text and "not cause" in text
+
+
+def test_demo_section_on_a_small_log():
+    from types import SimpleNamespace
+
+    from tracemill.rules import demo_section
+
+    rng = np.random.default_rng(0)
+    rows = []
+    seg = []
+    for c in range(200):
+        s = int(rng.integers(0, 2))
+        seg.append(s)
+        t = pd.Timestamp("2025-01-01") + pd.Timedelta(hours=c)
+        steps = ["Register", "Inspect"] + (["Order part", "Receive part"] if s else []) + \
+            ["Repair", "Hand over"]
+        for a in steps:
+            t += pd.Timedelta(minutes=int(rng.integers(5, 50)) + (3000 if a == "Receive part"
+                                                                 else 0))
+            rows.append((f"c{c}", a, t))
+    log = tm.EventLog.from_frame(pd.DataFrame(rows, columns=["case", "act", "at"]),
+                                 case="case", activity="act", timestamp="at")
+    truth = SimpleNamespace(segment=np.array(seg), segment_names=["plain", "spare part"],
+                            deviation=np.zeros(200, int), deviation_names=["none"])
+    text = demo_section(log, truth)
+    assert "duration=slow" in text and "segment=spare part" in text
+    assert "not cause" in text

@@ -8,7 +8,6 @@ import itertools
 import numpy as np
 import pandas as pd
 import pytest
-
 import tracemill as tm
 
 PEI = [
@@ -27,7 +26,7 @@ def test_pei_2001_example_database():
     f = sp.patterns_
     assert len(f) == 53
     assert f.groupby("length").size().to_dict() == {1: 6, 2: 22, 3: 21, 4: 4}
-    got = dict(zip(f["pattern"], f["count"]))
+    got = dict(zip(f["pattern"], f["count"], strict=False))
     want = {(("a",), ("a",)): 2, (("a",), ("b",)): 4, (("a", "b"),): 2, (("a",), ("c",)): 4,
             (("a",), ("d",)): 2, (("a",), ("f",)): 2}
     for k, v in want.items():
@@ -44,7 +43,7 @@ def test_prefixspan_readme_database_and_closed():
     db = [[0, 1, 2, 3, 4], [1, 1, 1, 3, 4], [2, 1, 2, 2, 0], [1, 1, 1, 2, 2]]
     assert len(tm.frequent_sequences(db, 2)) == 14
     closed = tm.frequent_sequences(db, 2, closed=True)
-    assert dict(zip(closed["pattern"], closed["count"])) == {
+    assert dict(zip(closed["pattern"], closed["count"], strict=False)) == {
         (0,): 2, (1, 1, 1): 2, (1, 2, 2): 2, (1, 3, 4): 2, (1, 2): 3, (1,): 4}
 
 
@@ -64,7 +63,7 @@ def test_agrees_with_prefixspan_package(seed):
     for minsup in (3, 8):
         want = {tuple(p): s for s, p in ps.PrefixSpan(db).frequent(minsup)}
         f = tm.frequent_sequences(db, minsup)
-        assert dict(zip(f["pattern"], f["count"])) == want
+        assert dict(zip(f["pattern"], f["count"], strict=False)) == want
         # Closed by definition (no super-pattern with the same support), from the package's
         # full output. The package's own closed=True output is a superset here: it keeps
         # patterns such as (0, 5, 0, 3) whose super-pattern (0, 5, 5, 0, 3) has the same
@@ -76,7 +75,7 @@ def test_agrees_with_prefixspan_package(seed):
         want_c = {p: s for p, s in want.items() if not any(
             len(q) == len(p) + 1 and t == s and sub(p, q) for q, t in want.items())}
         fc = tm.frequent_sequences(db, minsup, closed=True)
-        got_c = dict(zip(fc["pattern"], fc["count"]))
+        got_c = dict(zip(fc["pattern"], fc["count"], strict=False))
         assert got_c == want_c
         pkg_c = {tuple(p): s for s, p in ps.PrefixSpan(db).frequent(minsup, closed=True)}
         assert got_c.items() <= pkg_c.items()
@@ -84,17 +83,18 @@ def test_agrees_with_prefixspan_package(seed):
         lim.maxlen = 3
         want3 = {tuple(p): s for s, p in lim.frequent(minsup)}
         f3 = tm.frequent_sequences(db, minsup, max_len=3)
-        assert dict(zip(f3["pattern"], f3["count"])) == want3
+        assert dict(zip(f3["pattern"], f3["count"], strict=False)) == want3
 
 
 def _contains(seq, times, pat, gap, gap_t, min_sp, max_sp):
     n = len(seq)
     for pos in itertools.combinations(range(n), len(pat)):
-        if any(seq[p] != x for p, x in zip(pos, pat)):
+        if any(seq[p] != x for p, x in zip(pos, pat, strict=False)):
             continue
-        if gap is not None and any(b - a > gap for a, b in zip(pos, pos[1:])):
+        if gap is not None and any(b - a > gap for a, b in itertools.pairwise(pos)):
             continue
-        if gap_t is not None and any(times[b] - times[a] > gap_t for a, b in zip(pos, pos[1:])):
+        if gap_t is not None and any(times[b] - times[a] > gap_t
+                                     for a, b in itertools.pairwise(pos)):
             continue
         span = times[pos[-1]] - times[pos[0]]
         if (min_sp is not None and span < min_sp) or (max_sp is not None and span > max_sp):
@@ -122,13 +122,14 @@ def test_gap_and_span_constraints_on_a_log_brute_force():
                                        (None, None, "4h", None)]:
         sp = tm.SequentialPatterns(min_support=3, max_len=3, max_gap_events=gap,
                                    max_gap_time=gap_t, min_span=min_sp, max_span=max_sp)
-        got = dict(zip(sp.fit(log).patterns_["pattern"], sp.patterns_["count"]))
-        h = (lambda x: None if x is None else pd.Timedelta(x) // pd.Timedelta(hours=1))
+        got = dict(zip(sp.fit(log).patterns_["pattern"], sp.patterns_["count"], strict=False))
+        def h(x):
+            return (None if x is None else pd.Timedelta(x) // pd.Timedelta(hours=1))
         want = {}
         for L in (1, 2, 3):
             for pat in itertools.product("PQR", repeat=L):
                 n = sum(_contains(s, t, pat, gap, h(gap_t), h(min_sp), h(max_sp))
-                        for s, t in zip(seqs, times))
+                        for s, t in zip(seqs, times, strict=False))
                 if n >= 3:
                     want[pat] = n
         assert got == want, (gap, gap_t, min_sp, max_sp)
@@ -219,7 +220,8 @@ def test_episodes_match_brute_force_window_enumerator(seed):
             assert ep.n_windows == total
             mi = tm.frequent_episodes(streams, win, kind=kind, measure="minepi",
                                       min_frequency=2, max_size=3)
-            got_m = dict(zip(mi.to_frame()["episode"], mi.to_frame()["minimal_occurrences"]))
+            mf = mi.to_frame()
+            got_m = dict(zip(mf["episode"], mf["minimal_occurrences"], strict=True))
             # Level-wise: frequent, and every sub-episode (one type less) frequent too.
             want_m: dict = {}
             for e in sorted(bf, key=len):
@@ -234,10 +236,10 @@ def test_worked_episode_example_and_rules():
     # {A,B} in 4, A->C->B in 1.
     s = [[("A", 1), ("B", 2), ("A", 4), ("C", 5), ("B", 6)]]
     ser = tm.frequent_episodes(s, 3, min_frequency=0.1, max_size=3).to_frame()
-    d = dict(zip(ser["episode"], ser["windows"]))
+    d = dict(zip(ser["episode"], ser["windows"], strict=False))
     assert d[("A", "B")] == 3 and d[("A", "C", "B")] == 1
     par = tm.frequent_episodes(s, 3, kind="parallel", min_frequency=0.1).to_frame()
-    assert dict(zip(par["episode"], par["windows"]))[("A", "B")] == 4
+    assert dict(zip(par["episode"], par["windows"], strict=False))[("A", "B")] == 4
     r = tm.frequent_episodes(s, 3, min_frequency=0.1, max_size=3).rules(0.0)
     row = r[(r["antecedent"] == ("A",)) & (r["episode"] == ("A", "B"))]
     assert row["confidence"].iloc[0] == pytest.approx(3 / 6)

@@ -26,12 +26,6 @@ from .exceptions import (
     TracemillWarning,
 )
 from .log import EventLog
-from .sequences import (
-    Episodes,
-    SequentialPatterns,
-    frequent_episodes,
-    frequent_sequences,
-)
 from .rules import (
     AssociationRules,
     FrequentItemsets,
@@ -39,31 +33,37 @@ from .rules import (
     association_rules,
     frequent_itemsets,
 )
+from .sequences import (
+    Episodes,
+    SequentialPatterns,
+    frequent_episodes,
+    frequent_sequences,
+)
 
 __version__: str = _core.__version__
 
 __all__ = [
     "AssociationRules",
-    "Episodes",
-    "SequentialPatterns",
-    "frequent_episodes",
-    "frequent_sequences",
-    "FrequentItemsets",
-    "Transactions",
-    "association_rules",
-    "frequent_itemsets",
     "DataError",
     "DataQualityWarning",
+    "Episodes",
     "EventLog",
     "FormatError",
+    "FrequentItemsets",
     "InternalError",
     "LimitError",
     "NotFittedError",
     "ParameterError",
     "SchemaError",
+    "SequentialPatterns",
     "TimestampError",
     "TracemillError",
     "TracemillIOError",
     "TracemillWarning",
+    "Transactions",
     "__version__",
+    "association_rules",
+    "frequent_episodes",
+    "frequent_itemsets",
+    "frequent_sequences",
 ]

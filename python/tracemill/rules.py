@@ -41,6 +41,23 @@ def _factorize(values: list[Any]) -> tuple[np.ndarray, list[Any]]:
     """Codes (uint32) and names, names sorted when they are mutually comparable."""
     if not values:
         return np.zeros(0, dtype=np.uint32), []
+    arr = np.array(values) if not isinstance(values[0], (tuple, list)) else None
+    if arr is not None and arr.ndim == 1 and arr.dtype.kind in "iu" and arr.size:
+        # Integers (Python semantics: equal values are one item): a presence table when the
+        # range is small, a sort otherwise.
+        lo, hi = int(arr.min()), int(arr.max())
+        if hi - lo < 50_000_000:
+            present = np.zeros(hi - lo + 1, dtype=bool)
+            present[arr - lo] = True
+            uniq = np.flatnonzero(present)
+            remap = np.cumsum(present, dtype=np.int64) - 1
+            return remap[arr - lo].astype(np.uint32), (uniq + lo).tolist()
+        uniq, inv = np.unique(arr, return_inverse=True)
+        return inv.astype(np.uint32).ravel(), uniq.tolist()
+    if arr is not None and arr.ndim == 1 and arr.dtype.kind == "U" and \
+            all(type(v) is str for v in values):
+        uniq, inv = np.unique(arr, return_inverse=True)
+        return inv.astype(np.uint32).ravel(), uniq.tolist()
     try:
         import pandas as pd
 
@@ -122,8 +139,11 @@ class Transactions:
         >>> tm.Transactions.from_lists([[1, 2, 2], [2]]).to_lists()
         [[1, 2], [2]]
         """
-        lists = [list(x) if not isinstance(x, (str, bytes)) else _bad_list(x) for x in lists]
-        lengths = np.fromiter((len(x) for x in lists), dtype=np.int64, count=len(lists))
+        lists = lists if isinstance(lists, list) else list(lists)
+        if not all(isinstance(x, (list, tuple)) for x in lists):
+            lists = [x if isinstance(x, (list, tuple)) else
+                     (_bad_list(x) if isinstance(x, (str, bytes)) else list(x)) for x in lists]
+        lengths = np.fromiter(map(len, lists), dtype=np.int64, count=len(lists))
         flat = list(itertools.chain.from_iterable(lists))
         codes, names = _factorize(flat)
         offsets = np.zeros(len(lists) + 1, dtype=np.int64)
@@ -146,7 +166,7 @@ class Transactions:
                          f"or 0/1; got {type(frame).__name__}")
         n = len(frame)
         mats = []
-        for name, v in zip(names, cols):
+        for name, v in zip(names, cols, strict=False):
             if v.dtype == bool:
                 mats.append(v)
                 continue
@@ -293,7 +313,7 @@ class Transactions:
             add(np.flatnonzero(ok), codes, [f"{label_name}={v}" for v in uniq], "label")
         if len(set(names)) != len(names):
             seen: dict[str, str] = {}
-            for nm, k in zip(names, kinds):
+            for nm, k in zip(names, kinds, strict=False):
                 if nm in seen:
                     raise DataError(f"the item name {nm!r} comes from both a {seen[nm]} and a "
                                     f"{k}; rename the activity or attribute value")
@@ -770,3 +790,67 @@ def association_rules(itemsets: FrequentItemsets, *, min_confidence: float = 0.5
 
 __all__ = ["AssociationRules", "FrequentItemsets", "Transactions", "association_rules",
            "frequent_itemsets"]
+
+
+# ---------------------------------------------------------------------- demo
+def demo_section(log: Any, truth: Any, *, top: int = 5) -> str:
+    """The demo's rules section: which activities, attribute values and planted segments go
+    with slow cases (slowest 10 % by duration), which orderings of steps recur among slow
+    cases, and what happens within an hour of what.
+
+    Needs only the log and ``truth.segment`` / ``truth.segment_names`` (and, if present,
+    ``truth.deviation`` / ``truth.deviation_names``)."""
+    from .sequences import SequentialPatterns, frequent_episodes
+
+    ct = log.case_table()
+    dur = ct["duration"].to_numpy().astype("timedelta64[ns]").astype(np.int64)
+    slow = dur >= np.quantile(dur, 0.9)
+    seg = np.asarray(truth.segment)
+    seg_names = list(truth.segment_names)
+    items_label = np.where(slow, "slow", "not slow")
+    attrs = [t[0] for t in log.handle.case_attrs() if t[1] in ("str", "bool")][:4]
+    t = Transactions.from_log(log, activities=True, case_attributes=attrs or None,
+                              label=items_label, label_name="duration")
+    # Add the planted segment as an item so the rules can be checked against the truth.
+    off, items = t.arrays()["offsets"], t.arrays()["items"]
+    n_items = t.n_items
+    seg_items = n_items + seg.astype(np.int64)
+    new_items = np.insert(items.astype(np.int64), off[1:], seg_items)
+    new_off = off + np.arange(len(off))
+    names = list(t.item_names) + [f"segment={s}" for s in seg_names]
+    t = Transactions.from_csr(new_off, new_items, names)
+    parts = []
+    fi = frequent_itemsets(t, 0.02, max_len=4)
+    parts.append(f"{len(fi):,} frequent itemsets at 2 % support over {t.n_transactions:,} "
+                 f"cases and {t.n_items} items (activities, {len(attrs)} case attributes, "
+                 "the planted segment, slow / not slow).")
+    r = association_rules(fi, min_confidence=0.3, consequent="duration=slow", sort_by="lift")
+    parts.append("\nWhat goes with slow cases (slowest 10 %), by lift:")
+    parts.append(r.describe(top))
+    seg_rules = association_rules(fi, min_confidence=0.6, sort_by="lift")
+    fr = seg_rules.to_frame()
+    fr = fr[fr["consequent"].map(lambda c: len(c) == 1 and str(c[0]).startswith("segment="))]
+    parts.append("\nRules that point to a planted segment (confidence >= 0.6):")
+    if len(fr):
+        for row in fr.head(top).itertuples():
+            parts.append(f"  {{{', '.join(map(str, row.antecedent))}}} -> {row.consequent[0]}: "
+                         f"confidence {row.confidence:.0%}, lift {row.lift:.2f} "
+                         f"(n_xy {row.n_xy:,} of n_x {row.n_x:,})")
+    else:
+        parts.append("  none at this support")
+    slow_log = log.select_cases(slow)
+    sp = SequentialPatterns(min_support=0.3, max_len=4, return_cases=False).fit(slow_log)
+    p = sp.patterns_
+    p = p[p["length"] >= 3].head(top)
+    parts.append("\nOrderings of steps that recur among slow cases (other steps may come "
+                 "between):")
+    for row in p.itertuples():
+        parts.append(f"  {' .. '.join(map(str, row.pattern))}: {row.support:.0%} of slow cases")
+    ep = frequent_episodes(log, "1h", kind="serial", min_frequency=0.02, max_size=2)
+    e = ep.to_frame()
+    e = e[e["size"] == 2].head(top)
+    parts.append("\nWhat follows what within one hour (serial episodes, share of windows):")
+    for row in e.itertuples():
+        parts.append(f"  {row.episode[0]} then {row.episode[1]}: {row.frequency:.1%}")
+    parts.append("(Rules and patterns show association in past cases, not cause.)")
+    return "\n".join(parts)

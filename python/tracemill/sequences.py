@@ -121,8 +121,6 @@ class SequentialPatterns:
     3        (b,)      2
     """
 
-    _choices: dict[str, Any] = {}
-
     def __init__(self, min_support: float | int = 0.05, *, max_len: int | None = None,
                  max_gap_events: int | None = None, max_gap_time: Any = None,
                  min_span: Any = None, max_span: Any = None, closed: bool = False,
@@ -216,7 +214,8 @@ class SequentialPatterns:
             tms = None
             if times is not None:
                 tl = [list(t) for t in times]
-                if len(tl) != len(seqs) or any(len(a) != len(b) for a, b in zip(tl, seqs)):
+                if len(tl) != len(seqs) or any(
+                        len(a) != len(b) for a, b in zip(tl, seqs, strict=True)):
                     raise _param("times", "times needs one value per element of each sequence")
                 tms = np.asarray(list(itertools.chain.from_iterable(tl)), dtype=np.int64)
             self.case_ids_ = np.arange(len(seqs))

@@ -158,39 +158,61 @@ fn mine_item(
         return Ok(false);
     }
     if prefix.len() < cx.max_len && r > 0 {
-        // Conditional pattern base: paths above the nodes of r, weighted by node counts.
+        // Conditional pattern base in one walk: the paths above the nodes of r (root-most
+        // item last), weighted by node counts, with the item counts of the base.
         let mut local = vec![0u64; r];
+        let mut off = Vec::with_capacity(nodes.len() + 1);
+        off.push(0usize);
+        let mut items: Vec<u32> = Vec::new();
+        let mut w = Vec::with_capacity(nodes.len());
         for &n in nodes {
             let c = t.count[n as usize];
             let mut a = t.parent[n as usize];
             while a != ROOT {
-                local[t.item[a as usize] as usize] += c;
+                let it = t.item[a as usize];
+                local[it as usize] += c;
+                items.push(it);
                 a = t.parent[a as usize];
             }
+            off.push(items.len());
+            w.push(c);
         }
-        if local.iter().any(|&c| c >= cx.min) {
-            let mut off = Vec::with_capacity(nodes.len() + 1);
-            off.push(0usize);
-            let mut items = Vec::new();
-            let mut w = Vec::with_capacity(nodes.len());
-            for &n in nodes {
-                let start = items.len();
-                let mut a = t.parent[n as usize];
-                while a != ROOT {
-                    let it = t.item[a as usize];
-                    if local[it as usize] >= cx.min {
-                        items.push(it);
-                    }
-                    a = t.parent[a as usize];
-                }
-                items[start..].reverse();
-                off.push(items.len());
-                w.push(t.count[n as usize]);
-            }
-            let cond = FpTree::build(&off, &items, &w, r)?;
-            if !mine_tree(&cond, r, prefix, cx, sink)? {
+        let mut frequent = (0..r).filter(|&x| local[x] >= cx.min);
+        match (frequent.next(), frequent.next()) {
+            (None, _) => {}
+            (Some(x), None) => {
+                // A single frequent item: its conditional tree would be one node.
+                prefix.push(cx.code[x]);
+                let go = sink.emit(prefix, local[x])?;
                 prefix.pop();
-                return Ok(false);
+                if !go {
+                    prefix.pop();
+                    return Ok(false);
+                }
+            }
+            _ => {
+                // Keep the frequent items of each path, in rank order (compacted in place).
+                let mut wpos = 0usize;
+                let mut new_off = Vec::with_capacity(off.len());
+                new_off.push(0usize);
+                for k in 0..w.len() {
+                    let start = wpos;
+                    for j in off[k]..off[k + 1] {
+                        let it = items[j];
+                        if local[it as usize] >= cx.min {
+                            items[wpos] = it; // wpos <= j: never overwrites unread items
+                            wpos += 1;
+                        }
+                    }
+                    items[start..wpos].reverse();
+                    new_off.push(wpos);
+                }
+                items.truncate(wpos);
+                let cond = FpTree::build(&new_off, &items, &w, r)?;
+                if !mine_tree(&cond, r, prefix, cx, sink)? {
+                    prefix.pop();
+                    return Ok(false);
+                }
             }
         }
     }

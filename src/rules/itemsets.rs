@@ -173,12 +173,10 @@ impl Itemsets {
             complete: false,
             ..Default::default()
         };
-        for i in 0..self.len() {
-            if keep[i] {
-                out.items.extend_from_slice(self.get(i));
-                out.offsets.push(out.items.len());
-                out.counts.push(self.counts[i]);
-            }
+        for (i, _) in keep.iter().enumerate().filter(|(_, &k)| k) {
+            out.items.extend_from_slice(self.get(i));
+            out.offsets.push(out.items.len());
+            out.counts.push(self.counts[i]);
         }
         out
     }

@@ -20,8 +20,6 @@
 //! assert_eq!(MinSupport::Fraction(0.5).resolve(t.len()).unwrap(), 2);
 //! ```
 
-use rayon::prelude::*;
-
 use crate::error::{TmError, TmResult};
 
 /// A transaction database in CSR form; items of a transaction are sorted and distinct.
@@ -70,23 +68,32 @@ impl Transactions {
             )));
         }
         let n = offsets.len() - 1;
-        // Sort and deduplicate each transaction in parallel, then compact.
-        let cleaned: Vec<Vec<u32>> = (0..n)
-            .into_par_iter()
-            .map(|t| {
-                let mut v = items[offsets[t]..offsets[t + 1]].to_vec();
-                v.sort_unstable();
-                v.dedup();
-                v
-            })
-            .collect();
+        // Sort each transaction in place, then compact away repeats in one pass (no
+        // per-transaction allocation).
+        let mut items = items;
         let mut new_off = Vec::with_capacity(n + 1);
         new_off.push(0);
-        let mut new_items = Vec::with_capacity(items.len());
-        for v in cleaned {
-            new_items.extend_from_slice(&v);
-            new_off.push(new_items.len());
+        let mut w = 0usize;
+        for t in 0..n {
+            let (a, b) = (offsets[t], offsets[t + 1]);
+            let seg = &mut items[a..b];
+            if !seg.is_sorted() {
+                seg.sort_unstable();
+            }
+            let start = w;
+            let mut r = a;
+            while r < b {
+                let x = items[r];
+                if w == start || items[w - 1] != x {
+                    items[w] = x;
+                    w += 1;
+                }
+                r += 1;
+            }
+            new_off.push(w);
         }
+        items.truncate(w);
+        let new_items = items;
         Ok(Transactions {
             offsets: new_off,
             items: new_items,

@@ -104,9 +104,9 @@ impl EventStreams {
         let mut fill = by_type_off.clone();
         let mut by_type = vec![(0u32, 0u32); types.len()];
         for s in 0..offsets.len() - 1 {
-            for p in offsets[s]..offsets[s + 1] {
-                let t = types[p] as usize;
-                by_type[fill[t]] = (s as u32, (p - offsets[s]) as u32);
+            for (k, &ty) in types[offsets[s]..offsets[s + 1]].iter().enumerate() {
+                let t = ty as usize;
+                by_type[fill[t]] = (s as u32, k as u32);
                 fill[t] += 1;
             }
         }
@@ -366,7 +366,7 @@ pub fn frequent_episodes(
                 ),
             ))
         }
-        EpisodeMeasure::Minepi if !(p.min_frequency >= 1.0) => {
+        EpisodeMeasure::Minepi if p.min_frequency.is_nan() || p.min_frequency < 1.0 => {
             return Err(TmError::param(
                 "min_frequency",
                 format!(
