@@ -45,17 +45,54 @@ impl FpTree {
     fn build(off: &[usize], items: &[u32], w: &[u64], n_ranks: usize) -> TmResult<FpTree> {
         let n_paths = w.len();
         let path = |k: usize| &items[off[k]..off[k + 1]];
-        let mut order: Vec<u32> = (0..n_paths as u32)
-            .filter(|&k| off[k as usize] < off[k as usize + 1])
-            .collect();
-        order.sort_unstable_by(|&a, &b| path(a as usize).cmp(path(b as usize)));
+        let order: Vec<u32> = if n_ranks < 0xFFFF {
+            // Sort by a key packing the first four ranks (16 bits each, 0 = no item, so a
+            // prefix sorts before its extensions), then finish ties by comparing the rest.
+            let mut keyed: Vec<(u64, u32)> = (0..n_paths)
+                .filter(|&k| off[k] < off[k + 1])
+                .map(|k| {
+                    let p = path(k);
+                    let mut key = 0u64;
+                    for j in 0..4 {
+                        key = (key << 16) | p.get(j).map_or(0, |&r| u64::from(r) + 1);
+                    }
+                    (key, k as u32)
+                })
+                .collect();
+            keyed.sort_unstable();
+            let mut start = 0;
+            while start < keyed.len() {
+                let mut end = start + 1;
+                while end < keyed.len() && keyed[end].0 == keyed[start].0 {
+                    end += 1;
+                }
+                if end - start > 1 {
+                    keyed[start..end].sort_unstable_by(|a, b| {
+                        let (x, y) = (path(a.1 as usize), path(b.1 as usize));
+                        x[x.len().min(4)..].cmp(&y[y.len().min(4)..])
+                    });
+                }
+                start = end;
+            }
+            keyed.into_iter().map(|x| x.1).collect()
+        } else {
+            let mut o: Vec<u32> = (0..n_paths as u32)
+                .filter(|&k| off[k as usize] < off[k as usize + 1])
+                .collect();
+            o.sort_unstable_by(|&a, &b| path(a as usize).cmp(path(b as usize)));
+            o
+        };
+        let cap = items.len() + 1;
         let mut t = FpTree {
-            item: vec![u32::MAX],
-            parent: vec![ROOT],
-            count: vec![0],
+            item: Vec::with_capacity(cap),
+            parent: Vec::with_capacity(cap),
+            count: Vec::with_capacity(cap),
             head_off: Vec::new(),
             head: Vec::new(),
         };
+        t.item.push(u32::MAX);
+        t.parent.push(ROOT);
+        t.count.push(0);
         let mut stack: Vec<u32> = Vec::new();
         let mut prev: &[u32] = &[];
         for &k in &order {

@@ -400,8 +400,15 @@ pub fn frequent_episodes(
         ctl.check()?;
         let measured: Vec<(f64, u64)> = level
             .par_iter()
-            .map(|ep| measure(st, ep, p.kind, p.window))
+            .map(|ep| {
+                if ctl.is_cancelled() {
+                    (0.0, 0)
+                } else {
+                    measure(st, ep, p.kind, p.window)
+                }
+            })
             .collect();
+        ctl.check()?;
         let frequent: Vec<Vec<u32>> = level
             .into_iter()
             .zip(&measured)
