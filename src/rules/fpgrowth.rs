@@ -19,7 +19,12 @@
 //!    a combination is that of its deepest node).
 //!
 //! The conditional trees of different top-level items are independent, so they are mined in
-//! parallel (one rayon task per frequent item).
+//! parallel (one rayon task per frequent item). At the first level the conditional pattern
+//! base of an item is read straight from the rank-ordered transactions (the part before the
+//! item in each transaction holding it, found through an index of item positions): this is
+//! the same multiset of paths the global FP-tree would give, but it streams through memory
+//! instead of chasing parent pointers through a tree that sparse data hardly compresses.
+//! From the second level on, conditional FP-trees are built and mined as above.
 //!
 //! Example 6.5 of Han, Kamber & Pei (the conditional pattern base of I5 is {I2,I1:1},
 //! {I2,I1,I3:1}, giving {I2,I5}:2, {I1,I5}:2 and {I2,I1,I5}:2) is reproduced in the tests.
@@ -195,8 +200,8 @@ fn mine_item(
         return Ok(false);
     }
     if prefix.len() < cx.max_len && r > 0 {
-        // Conditional pattern base in one walk: the paths above the nodes of r (root-most
-        // item last), weighted by node counts, with the item counts of the base.
+        // Conditional pattern base in one walk: the paths above the nodes of r, weighted by
+        // node counts, with the item counts of the base.
         let mut local = vec![0u64; r];
         let mut off = Vec::with_capacity(nodes.len() + 1);
         off.push(0usize);
@@ -204,6 +209,7 @@ fn mine_item(
         let mut w = Vec::with_capacity(nodes.len());
         for &n in nodes {
             let c = t.count[n as usize];
+            let start = items.len();
             let mut a = t.parent[n as usize];
             while a != ROOT {
                 let it = t.item[a as usize];
@@ -211,50 +217,64 @@ fn mine_item(
                 items.push(it);
                 a = t.parent[a as usize];
             }
+            items[start..].reverse();
             off.push(items.len());
             w.push(c);
         }
-        let mut frequent = (0..r).filter(|&x| local[x] >= cx.min);
-        match (frequent.next(), frequent.next()) {
-            (None, _) => {}
-            (Some(x), None) => {
-                // A single frequent item: its conditional tree would be one node.
-                prefix.push(cx.code[x]);
-                let go = sink.emit(prefix, local[x])?;
-                prefix.pop();
-                if !go {
-                    prefix.pop();
-                    return Ok(false);
-                }
-            }
-            _ => {
-                // Keep the frequent items of each path, in rank order (compacted in place).
-                let mut wpos = 0usize;
-                let mut new_off = Vec::with_capacity(off.len());
-                new_off.push(0usize);
-                for k in 0..w.len() {
-                    let start = wpos;
-                    for j in off[k]..off[k + 1] {
-                        let it = items[j];
-                        if local[it as usize] >= cx.min {
-                            items[wpos] = it; // wpos <= j: never overwrites unread items
-                            wpos += 1;
-                        }
-                    }
-                    items[start..wpos].reverse();
-                    new_off.push(wpos);
-                }
-                items.truncate(wpos);
-                let cond = FpTree::build(&new_off, &items, &w, r)?;
-                if !mine_tree(&cond, r, prefix, cx, sink)? {
-                    prefix.pop();
-                    return Ok(false);
-                }
-            }
+        if !mine_base(r, &off, &mut items, &w, &local, prefix, cx, sink)? {
+            prefix.pop();
+            return Ok(false);
         }
     }
     prefix.pop();
     Ok(true)
+}
+
+/// Mine the conditional pattern base of `prefix` (which ends with the item of rank `r`):
+/// paths in rank order (CSR `off`/`items`, weights `w`) and the item counts `local` of the
+/// base. `items` is compacted in place.
+#[allow(clippy::too_many_arguments)]
+fn mine_base(
+    r: usize,
+    off: &[usize],
+    items: &mut Vec<u32>,
+    w: &[u64],
+    local: &[u64],
+    prefix: &mut Vec<u32>,
+    cx: &Ctx<'_>,
+    sink: &mut Sink<'_>,
+) -> TmResult<bool> {
+    let mut frequent = (0..r).filter(|&x| local[x] >= cx.min);
+    match (frequent.next(), frequent.next()) {
+        (None, _) => Ok(true),
+        (Some(x), None) => {
+            // A single frequent item: its conditional tree would be one node.
+            prefix.push(cx.code[x]);
+            let go = sink.emit(prefix, local[x])?;
+            prefix.pop();
+            Ok(go)
+        }
+        _ => {
+            // Keep the frequent items of each path (compacted in place; wpos <= j, so no
+            // unread item is overwritten).
+            let mut wpos = 0usize;
+            let mut new_off = Vec::with_capacity(off.len());
+            new_off.push(0usize);
+            for k in 0..w.len() {
+                for j in off[k]..off[k + 1] {
+                    let it = items[j];
+                    if local[it as usize] >= cx.min {
+                        items[wpos] = it;
+                        wpos += 1;
+                    }
+                }
+                new_off.push(wpos);
+            }
+            items.truncate(wpos);
+            let cond = FpTree::build(&new_off, items, w, r)?;
+            mine_tree(&cond, r, prefix, cx, sink)
+        }
+    }
 }
 
 /// A single-path tree: every non-empty combination of its nodes (up to `max_len` in total).
@@ -329,19 +349,57 @@ pub(crate) fn mine(
         items[s..].sort_unstable();
         off.push(items.len());
     }
-    let w = vec![1u64; t.len()];
     ctl.check()?;
-    let tree = FpTree::build(&off, &items, &w, n_ranks)?;
-    drop(items);
+    // First level: the conditional pattern base of item r is the part before r of every
+    // transaction holding r. Reading it from the rank-ordered transactions (through an index
+    // of where each item occurs) streams through memory, where walking a global FP-tree
+    // would chase parent pointers through a tree that sparse data hardly compresses.
+    let mut occ_off = vec![0usize; n_ranks + 1];
+    for &x in &items {
+        occ_off[x as usize + 1] += 1;
+    }
+    for k in 0..n_ranks {
+        occ_off[k + 1] += occ_off[k];
+    }
+    let mut fill = occ_off.clone();
+    let mut occ = vec![(0usize, 0usize); items.len()];
+    for k in 0..t.len() {
+        for (j, &x) in items[off[k]..off[k + 1]].iter().enumerate() {
+            let x = x as usize;
+            occ[fill[x]] = (off[k], off[k] + j);
+            fill[x] += 1;
+        }
+    }
+    drop(fill);
     let cx = Ctx {
         min,
         max_len: p.max_len.unwrap_or(usize::MAX),
         code: &freq,
     };
-    // One task per frequent item; the rarest items have the smallest conditional trees.
+    // One task per frequent item; the rarest items have the smallest bases.
     run_tasks(n_ranks, p, min, t.len(), ctl, |k, sink| {
-        let mut prefix = Vec::new();
-        mine_item(&tree, n_ranks - 1 - k, &mut prefix, &cx, sink)
+        let r = n_ranks - 1 - k;
+        let here = &occ[occ_off[r]..occ_off[r + 1]];
+        let mut prefix = vec![freq[r]];
+        if !sink.emit(&prefix, here.len() as u64)? {
+            return Ok(false);
+        }
+        if cx.max_len < 2 || r == 0 {
+            return Ok(true);
+        }
+        let mut local = vec![0u64; r];
+        let mut boff = Vec::with_capacity(here.len() + 1);
+        boff.push(0usize);
+        let mut bitems = Vec::new();
+        for &(s, e) in here {
+            for &x in &items[s..e] {
+                local[x as usize] += 1;
+            }
+            bitems.extend_from_slice(&items[s..e]);
+            boff.push(bitems.len());
+        }
+        let w = vec![1u64; here.len()];
+        mine_base(r, &boff, &mut bitems, &w, &local, &mut prefix, &cx, sink)
     })
 }
 

@@ -48,6 +48,17 @@ def sequences() -> list[list[int]]:
 
 
 def main(task: str, support: float) -> None:
+    """Run the task three times on the same data; report the best time (timeit's practice,
+    which damps the noise of a shared machine) and the process's peak memory."""
+    best = None
+    for _ in range(3):
+        r = once(task, support)
+        if best is None or r["seconds"] < best["seconds"]:
+            best = r
+    print(json.dumps(best))
+
+
+def once(task: str, support: float) -> dict:
     if task.startswith("seq"):
         data = sequences()
     else:
@@ -118,8 +129,7 @@ def main(task: str, support: float) -> None:
         raise SystemExit(f"unknown task {task}")
     secs = time.perf_counter() - t0
     peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024
-    print(json.dumps({"task": task, "support": support, "seconds": secs, "peak_mb": peak,
-                      "n": n_out}))
+    return {"task": task, "support": support, "seconds": secs, "peak_mb": peak, "n": n_out}
 
 
 if __name__ == "__main__":
