@@ -391,12 +391,13 @@ pub(crate) fn mine(
         let mut boff = Vec::with_capacity(here.len() + 1);
         boff.push(0usize);
         let mut bitems = Vec::new();
+        // One scattered read per occurrence (the copy); the counting pass is sequential.
         for &(s, e) in here {
-            for &x in &items[s..e] {
-                local[x as usize] += 1;
-            }
             bitems.extend_from_slice(&items[s..e]);
             boff.push(bitems.len());
+        }
+        for &x in &bitems {
+            local[x as usize] += 1;
         }
         let w = vec![1u64; here.len()];
         mine_base(r, &boff, &mut bitems, &w, &local, &mut prefix, &cx, sink)

@@ -309,11 +309,14 @@ struct St {
     last: u32,
 }
 
+/// Per-task scratch: a stamp per item (to count each item once per sequence) and a bucket per
+/// item collecting the child projections; buckets are emptied before recursing, so one set
+/// serves every depth.
 struct Scratch {
     stamp_s: Vec<u64>,
     stamp_i: Vec<u64>,
-    cnt_s: Vec<u32>,
-    cnt_i: Vec<u32>,
+    buckets_s: Vec<Vec<St>>,
+    buckets_i: Vec<Vec<St>>,
     clock: u64,
 }
 
@@ -352,21 +355,27 @@ fn grow(
     let db = cx.db;
     let itemsets = db.max_elem > 1;
     let max_e = last_el.last().copied().unwrap_or(0);
-    // Pass 1: count each extension once per sequence.
-    let mut touched_s = Vec::new();
-    let mut touched_i = Vec::new();
+    // One pass: every extension of every projected sequence goes to its item's bucket, once
+    // per sequence (stamps), in sequence order; a bucket's length is the extension's support.
+    let mut touched_s: Vec<u32> = Vec::new();
+    let mut touched_i: Vec<u32> = Vec::new();
     for st in states {
         sc.clock += 1;
         let (sid, n) = (st.sid as usize, db.n_elems(st.sid as usize));
         for j in st.last as usize + 1..n {
             for &x in db.elem(sid, j) {
-                let x = x as usize;
-                if sc.stamp_s[x] != sc.clock {
-                    sc.stamp_s[x] = sc.clock;
-                    if sc.cnt_s[x] == 0 {
-                        touched_s.push(x as u32);
+                let xu = x as usize;
+                if sc.stamp_s[xu] != sc.clock {
+                    sc.stamp_s[xu] = sc.clock;
+                    let b = &mut sc.buckets_s[xu];
+                    if b.is_empty() {
+                        touched_s.push(x);
                     }
-                    sc.cnt_s[x] += 1;
+                    b.push(St {
+                        sid: st.sid,
+                        lo: st.last + 1,
+                        last: j as u32,
+                    });
                 }
             }
         }
@@ -377,103 +386,40 @@ fn grow(
                     continue;
                 }
                 for &x in el.iter().filter(|&&x| x > max_e) {
-                    let x = x as usize;
-                    if sc.stamp_i[x] != sc.clock {
-                        sc.stamp_i[x] = sc.clock;
-                        if sc.cnt_i[x] == 0 {
-                            touched_i.push(x as u32);
-                        }
-                        sc.cnt_i[x] += 1;
-                    }
-                }
-            }
-        }
-    }
-    let min = cx.min as u32;
-    let freq_s: Vec<u32> = touched_s
-        .iter()
-        .copied()
-        .filter(|&x| sc.cnt_s[x as usize] >= min)
-        .collect();
-    let freq_i: Vec<u32> = touched_i
-        .iter()
-        .copied()
-        .filter(|&x| sc.cnt_i[x as usize] >= min)
-        .collect();
-    for &x in &touched_s {
-        sc.cnt_s[x as usize] = 0;
-    }
-    for &x in &touched_i {
-        sc.cnt_i[x as usize] = 0;
-    }
-    if freq_s.is_empty() && freq_i.is_empty() {
-        return Ok(());
-    }
-    // Pass 2: child projections of the frequent extensions, bucketed by item (sequence order
-    // is kept, so the supporting sequences of each child stay ascending).
-    let mut is_freq_s = vec![false; 0];
-    let mut is_freq_i = vec![false; 0];
-    is_freq_s.resize(db.n_items, false);
-    for &x in &freq_s {
-        is_freq_s[x as usize] = true;
-    }
-    if itemsets {
-        is_freq_i.resize(db.n_items, false);
-        for &x in &freq_i {
-            is_freq_i[x as usize] = true;
-        }
-    }
-    let mut sb: Vec<(u32, St)> = Vec::new();
-    let mut ib: Vec<(u32, St)> = Vec::new();
-    for st in states {
-        sc.clock += 1;
-        let (sid, n) = (st.sid as usize, db.n_elems(st.sid as usize));
-        for j in st.last as usize + 1..n {
-            for &x in db.elem(sid, j) {
-                let xu = x as usize;
-                if is_freq_s[xu] && sc.stamp_s[xu] != sc.clock {
-                    sc.stamp_s[xu] = sc.clock;
-                    sb.push((
-                        x,
-                        St {
-                            sid: st.sid,
-                            lo: st.last + 1,
-                            last: j as u32,
-                        },
-                    ));
-                }
-            }
-        }
-        if itemsets && !freq_i.is_empty() {
-            for j in st.last as usize..n {
-                let el = db.elem(sid, j);
-                if j > st.last as usize && !contains(el, last_el) {
-                    continue;
-                }
-                for &x in el.iter().filter(|&&x| x > max_e) {
                     let xu = x as usize;
-                    if is_freq_i[xu] && sc.stamp_i[xu] != sc.clock {
+                    if sc.stamp_i[xu] != sc.clock {
                         sc.stamp_i[xu] = sc.clock;
-                        ib.push((
-                            x,
-                            St {
-                                sid: st.sid,
-                                lo: st.lo,
-                                last: j as u32,
-                            },
-                        ));
+                        let b = &mut sc.buckets_i[xu];
+                        if b.is_empty() {
+                            touched_i.push(x);
+                        }
+                        b.push(St {
+                            sid: st.sid,
+                            lo: st.lo,
+                            last: j as u32,
+                        });
                     }
                 }
             }
         }
     }
-    sb.sort_by_key(|p| p.0);
-    ib.sort_by_key(|p| p.0);
+    touched_s.sort_unstable();
+    touched_i.sort_unstable();
+    let min = cx.min as usize;
+    let take = |buckets: &mut Vec<Vec<St>>, touched: &[u32]| -> Vec<(u32, Vec<St>)> {
+        touched
+            .iter()
+            .filter_map(|&x| {
+                let b = std::mem::take(&mut buckets[x as usize]);
+                (b.len() >= min).then_some((x, b))
+            })
+            .collect()
+    };
+    let children_i = take(&mut sc.buckets_i, &touched_i);
+    let children_s = take(&mut sc.buckets_s, &touched_s);
     let saved_last = last_el.clone();
     // i-extensions: join x to the last element.
-    for group in ib.chunk_by(|a, b| a.0 == b.0) {
-        let x = group[0].0;
-        let child: Vec<St> = group.iter().map(|p| p.1).collect();
+    for (x, child) in children_i {
         pat.push(x);
         last_el.push(x);
         grow(cx, pat, last_el, &child, sc, out)?;
@@ -481,9 +427,7 @@ fn grow(
         last_el.clone_from(&saved_last);
     }
     // s-extensions: x as a new element.
-    for group in sb.chunk_by(|a, b| a.0 == b.0) {
-        let x = group[0].0;
-        let child: Vec<St> = group.iter().map(|p| p.1).collect();
+    for (x, child) in children_s {
         pat.push(x | NEW);
         last_el.clear();
         last_el.push(x);
@@ -717,8 +661,12 @@ pub fn prefixspan(db: &SequenceDb, p: &PrefixSpanParams, ctl: &Control) -> TmRes
                 let mut sc = Scratch {
                     stamp_s: vec![0; db.n_items],
                     stamp_i: vec![0; db.n_items],
-                    cnt_s: vec![0; db.n_items],
-                    cnt_i: vec![0; db.n_items],
+                    buckets_s: vec![Vec::new(); db.n_items],
+                    buckets_i: if db.max_elem > 1 {
+                        vec![Vec::new(); db.n_items]
+                    } else {
+                        Vec::new()
+                    },
                     clock: 0,
                 };
                 let cx = Ctx { db, min, max_len };
