@@ -229,6 +229,9 @@ class Transactions:
             An item per activity present in the case (its name, e.g. ``Inspect``).
         directly_follows : bool, default=False
             An item per directly-follows pair present (``Inspect->Repair``).
+
+        Item codes follow this order: activities, directly-follows pairs, resources, case
+        attributes, label.
         case_attributes : list of str, optional
             Case attributes as ``name=value`` items. Numeric and time attributes are binned by
             quantiles (``bins`` bins; ``name=[lo, hi)``) unless ``bin_edges[name]`` gives the
@@ -250,7 +253,7 @@ class Transactions:
         >>> log = tm.EventLog.from_frame(frame, case="case", activity="act", timestamp="t")
         >>> tm.Transactions.from_log(log, directly_follows=True,
         ...                          label=[True, False], label_name="slow").to_lists()
-        [['slow=True', 'x', 'x->y', 'y'], ['slow=False', 'x']]
+        [['x', 'y', 'x->y', 'slow=True'], ['x', 'slow=False']]
         """
         n_cases = log.n_cases
         h = log.handle
@@ -607,10 +610,10 @@ def frequent_itemsets(transactions: Transactions, min_support: float | int = 0.0
     >>> len(fi), len(tm.frequent_itemsets(t, 2, target="closed"))
     (13, 9)
     >>> fi.to_frame().head(3)
-      itemset  support  count  length
-    0   (I2,)     0.777778      7       1
-    1   (I1,)     0.666667      6       1
-    2   (I3,)     0.666667      6       1
+      itemset   support  count  length
+    0   (I2,)  0.777778      7       1
+    1   (I1,)  0.666667      6       1
+    2   (I3,)  0.666667      6       1
     """
     if not isinstance(transactions, Transactions):
         raise _param("transactions", "frequent_itemsets takes a tracemill.Transactions; build "
@@ -824,7 +827,8 @@ def demo_section(log: Any, truth: Any, *, top: int = 5) -> str:
     parts.append(f"{len(fi):,} frequent itemsets at 2 % support over {t.n_transactions:,} "
                  f"cases and {t.n_items} items (activities, {len(attrs)} case attributes, "
                  "the planted segment, slow / not slow).")
-    r = association_rules(fi, min_confidence=0.3, consequent="duration=slow", sort_by="lift")
+    r = association_rules(fi, min_confidence=0.0, min_lift=1.0, consequent="duration=slow",
+                          sort_by="lift")
     parts.append("\nWhat goes with slow cases (slowest 10 %), by lift:")
     parts.append(r.describe(top))
     seg_rules = association_rules(fi, min_confidence=0.6, sort_by="lift")

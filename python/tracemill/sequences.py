@@ -114,11 +114,11 @@ class SequentialPatterns:
     >>> sp = tm.SequentialPatterns(min_support=2).fit(
     ...     [["a", "b", "c"], ["a", "c"], ["b", "a", "c"]])
     >>> sp.patterns_[["pattern", "count"]].head(4)
-          pattern  count
-    0        (a,)      3
-    1        (c,)      3
-    2      (a, c)      3
-    3        (b,)      2
+      pattern  count
+    0    (a,)      3
+    1    (c,)      3
+    2  (a, c)      3
+    3    (b,)      2
     """
 
     def __init__(self, min_support: float | int = 0.05, *, max_len: int | None = None,
