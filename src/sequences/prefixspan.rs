@@ -362,21 +362,33 @@ fn grow(
     for st in states {
         sc.clock += 1;
         let (sid, n) = (st.sid as usize, db.n_elems(st.sid as usize));
-        for j in st.last as usize + 1..n {
-            for &x in db.elem(sid, j) {
-                let xu = x as usize;
-                if sc.stamp_s[xu] != sc.clock {
-                    sc.stamp_s[xu] = sc.clock;
-                    let b = &mut sc.buckets_s[xu];
-                    if b.is_empty() {
-                        touched_s.push(x);
-                    }
-                    b.push(St {
-                        sid: st.sid,
-                        lo: st.last + 1,
-                        last: j as u32,
-                    });
+        let mut visit = |x: u32, j: usize| {
+            let xu = x as usize;
+            if sc.stamp_s[xu] != sc.clock {
+                sc.stamp_s[xu] = sc.clock;
+                let b = &mut sc.buckets_s[xu];
+                if b.is_empty() {
+                    touched_s.push(x);
                 }
+                b.push(St {
+                    sid: st.sid,
+                    lo: st.last + 1,
+                    last: j as u32,
+                });
+            }
+        };
+        if itemsets {
+            for j in st.last as usize + 1..n {
+                for &x in db.elem(sid, j) {
+                    visit(x, j);
+                }
+            }
+        } else {
+            // Single-item elements: element j of the sequence is item `base + j`.
+            let base = db.seq_offsets[sid];
+            let suffix = &db.items[base + st.last as usize + 1..base + n];
+            for (k, &x) in suffix.iter().enumerate() {
+                visit(x, st.last as usize + 1 + k);
             }
         }
         if itemsets {

@@ -66,12 +66,12 @@ def once(task: str, support: float) -> dict:
     else:
         data = baskets()
     # Library imports are not part of the work being timed.
-    import pandas as pd  # noqa: F401
+    import pandas as pd
 
     if task.startswith("tracemill") or task.startswith("seq_tracemill"):
         import tracemill  # noqa: F401
     elif task.startswith("pyfim"):
-        import fim  # noqa: F401
+        import fim
     elif task.startswith("mlxtend"):
         import mlxtend.frequent_patterns  # noqa: F401
     elif task.startswith("seq_prefixspan"):
