@@ -10,6 +10,8 @@
 //! * [`encode`]: trace encodings (activity, transition, n-gram and performance profiles);
 //! * [`distance`]: pairwise distances (vector metrics, edit distance), condensed or square;
 //! * [`cluster`]: k-means, k-medoids, hierarchical clustering, DBSCAN and quality indices;
+//! * [`rules`]: frequent itemsets and association rules;
+//! * [`sequences`]: sequential patterns and episodes;
 //! * [`control`]: cancellation and progress for long kernels;
 //! * [`error`]: the error type shared by all kernels;
 //! * [`discover`]: process discovery (directly-follows, dependency, alpha, inductive);
@@ -29,6 +31,8 @@ pub mod error;
 pub mod eval;
 pub mod io;
 pub mod log;
+pub mod rules;
+pub mod sequences;
 pub mod sim;
 pub mod tree;
 pub mod xes;

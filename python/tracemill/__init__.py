@@ -35,6 +35,19 @@ from .exceptions import (
 )
 from .log import EventLog
 from .models import DependencyGraph, DirectlyFollowsGraph, PetriNet, ProcessTree
+from .rules import (
+    AssociationRules,
+    FrequentItemsets,
+    Transactions,
+    association_rules,
+    frequent_itemsets,
+)
+from .sequences import (
+    Episodes,
+    SequentialPatterns,
+    frequent_episodes,
+    frequent_sequences,
+)
 from .simulation import Truth, simulate, workshop, workshop_spec
 from .tree import TreeClassifier, TreeRegressor
 
@@ -42,14 +55,17 @@ __version__: str = _core.__version__
 
 __all__ = [
     "AlphaDiscovery",
+    "AssociationRules",
     "DataError",
     "DataQualityWarning",
     "DependencyDiscovery",
     "DependencyGraph",
     "DirectlyFollowsDiscovery",
     "DirectlyFollowsGraph",
+    "Episodes",
     "EventLog",
     "FormatError",
+    "FrequentItemsets",
     "InductiveDiscovery",
     "InternalError",
     "LimitError",
@@ -58,21 +74,27 @@ __all__ = [
     "PetriNet",
     "ProcessTree",
     "SchemaError",
+    "SequentialPatterns",
     "TimestampError",
     "TracemillError",
     "TracemillIOError",
     "TracemillWarning",
+    "Transactions",
     "TreeClassifier",
     "TreeRegressor",
     "Truth",
     "__version__",
     "align",
+    "association_rules",
     "cluster",
     "compare_directly_follows",
     "drift",
     "encode",
     "evaluate",
     "explain",
+    "frequent_episodes",
+    "frequent_itemsets",
+    "frequent_sequences",
     "precision",
     "quality_table",
     "simplicity",

@@ -420,3 +420,86 @@ def davies_bouldin(
 def calinski_harabasz(
     x: npt.NDArray[np.float64], n: int, d: int, labels: npt.NDArray[np.int64]
 ) -> float: ...
+# --- rules and sequences: frequent itemsets, association rules, PrefixSpan, episodes ---
+
+class TransactionsHandle:
+    @property
+    def n_transactions(self) -> int: ...
+    @property
+    def n_items(self) -> int: ...
+    @property
+    def n_empty(self) -> int: ...
+    def arrays(self) -> tuple[npt.NDArray[np.int64], npt.NDArray[np.uint32]]: ...
+    def item_counts(self) -> npt.NDArray[np.uint64]: ...
+
+def build_transactions(
+    offsets: npt.NDArray[np.int64], items: npt.NDArray[np.uint32], n_items: int
+) -> TransactionsHandle: ...
+def mine_itemsets(
+    tx: TransactionsHandle,
+    min_count: int | None = None,
+    min_fraction: float | None = None,
+    max_len: int | None = None,
+    target: str = "all",
+    algorithm: str = "fpgrowth",
+    max_itemsets: int = 10_000_000,
+    truncate: bool = False,
+    progress: Callable[[int, int], Any] | None = None,
+) -> tuple[npt.NDArray[np.int64], npt.NDArray[np.uint32], npt.NDArray[np.uint64], bool, int]: ...
+def mine_rules(
+    offsets: npt.NDArray[np.int64],
+    items: npt.NDArray[np.uint32],
+    counts: npt.NDArray[np.uint64],
+    n_transactions: int,
+    complete: bool,
+    min_confidence: float = 0.5,
+    min_lift: float | None = None,
+    consequent: list[int] | None = None,
+    max_rules: int = 10_000_000,
+    progress: Callable[[int, int], Any] | None = None,
+) -> tuple[np.ndarray, ...]: ...
+def rule_measures(
+    n: int,
+    n_x: npt.NDArray[np.uint64],
+    n_y: npt.NDArray[np.uint64],
+    n_xy: npt.NDArray[np.uint64],
+) -> list[tuple[str, npt.NDArray[np.float64]]]: ...
+def mine_sequences(
+    seq_offsets: npt.NDArray[np.int64],
+    elem_offsets: npt.NDArray[np.int64] | None,
+    items: npt.NDArray[np.uint32],
+    n_items: int,
+    times: npt.NDArray[np.int64] | None = None,
+    min_count: int | None = None,
+    min_fraction: float | None = None,
+    max_len: int | None = None,
+    max_gap_events: int | None = None,
+    max_gap_time: int | None = None,
+    min_span: int | None = None,
+    max_span: int | None = None,
+    closed: bool = False,
+    return_cases: bool = True,
+    max_patterns: int = 10_000_000,
+    progress: Callable[[int, int], Any] | None = None,
+) -> tuple[Any, ...]: ...
+def mine_episodes(
+    offsets: npt.NDArray[np.int64],
+    types: npt.NDArray[np.uint32],
+    times: npt.NDArray[np.int64],
+    n_types: int,
+    window: int,
+    kind: str = "serial",
+    measure: str = "winepi",
+    min_frequency: float = 0.1,
+    max_size: int = 4,
+    max_episodes: int = 1_000_000,
+    progress: Callable[[int, int], Any] | None = None,
+) -> tuple[Any, ...]: ...
+def mine_episode_rules(
+    offsets: npt.NDArray[np.int64],
+    types: npt.NDArray[np.uint32],
+    windows: npt.NDArray[np.float64],
+    minimal_occurrences: npt.NDArray[np.uint64],
+    measure: str,
+    min_confidence: float,
+) -> tuple[npt.NDArray[np.uint32], npt.NDArray[np.uint32], npt.NDArray[np.float64]]: ...

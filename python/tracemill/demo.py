@@ -73,7 +73,7 @@ def _sections() -> list[tuple[str, Any]]:
     """The demo sections contributed by the capability modules, in reading order."""
     from types import SimpleNamespace
 
-    from . import cluster, discover, explain
+    from . import cluster, discover, explain, rules
 
     labels: list[Any] = []
 
@@ -91,6 +91,8 @@ def _sections() -> list[tuple[str, Any]]:
         ("3. Process models per group of cases, checked against the log", per_group),
         ("4. Why slow cases are slow, and when the process changed",
          lambda log, truth, out: explain.demo_section(log, truth)),
+        ("5. What goes together in cases: itemsets, rules and recurring orderings",
+         lambda log, truth, out: rules.demo_section(log, truth)),
     ]
 
 

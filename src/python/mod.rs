@@ -8,7 +8,9 @@ mod encode;
 mod errors;
 mod eval;
 mod log;
+mod rules;
 mod run;
+mod sequences;
 mod sim;
 mod tree;
 mod xes;
@@ -55,6 +57,14 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(xes::write_xes_file, m)?)?;
     tree::register(m)?;
     eval::register(m)?;
+    m.add_class::<rules::PyTransactions>()?;
+    m.add_function(wrap_pyfunction!(rules::build_transactions, m)?)?;
+    m.add_function(wrap_pyfunction!(rules::mine_itemsets, m)?)?;
+    m.add_function(wrap_pyfunction!(rules::mine_rules, m)?)?;
+    m.add_function(wrap_pyfunction!(rules::rule_measures, m)?)?;
+    m.add_function(wrap_pyfunction!(sequences::mine_sequences, m)?)?;
+    m.add_function(wrap_pyfunction!(sequences::mine_episodes, m)?)?;
+    m.add_function(wrap_pyfunction!(sequences::mine_episode_rules, m)?)?;
     m.add_function(wrap_pyfunction!(_panic_for_test, m)?)?;
     m.add_function(wrap_pyfunction!(_sleep_for_test, m)?)?;
     // trace encoding, distances and clustering
