@@ -29,6 +29,7 @@ pub mod distance;
 pub mod encode;
 pub mod error;
 pub mod eval;
+pub mod hash;
 pub mod io;
 pub mod log;
 pub mod rules;

@@ -10,6 +10,13 @@ import numpy as np
 from .exceptions import DataError, ParameterError
 
 FrameKind = Literal["pandas", "polars", "arrow"]
+NS_PER_HOUR = 3_600_000_000_000
+
+
+def fmt_hours(ns: float) -> str:
+    """A duration in ns as hours, or days from 48 h on (for reports)."""
+    h = ns / NS_PER_HOUR
+    return f"{h / 24:.1f} d" if abs(h) >= 48 else f"{h:.1f} h"
 
 
 def check_kind(kind: str) -> None:

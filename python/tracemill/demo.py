@@ -10,14 +10,8 @@ from typing import Any
 
 import numpy as np
 
+from ._output import fmt_hours as _hours
 from .log import EventLog
-
-NS_PER_HOUR = 3_600_000_000_000
-
-
-def _hours(ns: float) -> str:
-    h = ns / NS_PER_HOUR
-    return f"{h / 24:.1f} d" if h >= 48 else f"{h:.1f} h"
 
 
 def _table(rows: list[list[str]], header: list[str]) -> str:

@@ -30,23 +30,14 @@ import numpy as np
 
 from . import _core
 from ._output import Col, make_frame
-from .exceptions import ParameterError
+from ._output import fmt_hours as _hours
+from .exceptions import param_error as _param
 
 __all__ = ["DriftResult", "chi2_sf", "detect_drift", "ks_test", "table_test"]
 
 FEATURES = ("variants", "activities", "directly_follows", "duration")
-NS_PER_HOUR = 3_600_000_000_000
 
 
-def _param(name: str, msg: str) -> ParameterError:
-    e = ParameterError(msg)
-    e.parameter = name
-    return e
-
-
-def _hours(ns: float) -> str:
-    h = ns / NS_PER_HOUR
-    return f"{h / 24:.1f} d" if abs(h) >= 48 else f"{h:.1f} h"
 
 
 class DriftResult:

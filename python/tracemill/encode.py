@@ -27,15 +27,11 @@ from typing import Any, ClassVar, Literal
 import numpy as np
 
 from . import _core
-from .exceptions import DataQualityWarning, NotFittedError, ParameterError
+from .exceptions import DataQualityWarning, NotFittedError
+from .exceptions import param_error as _param
 
 Weighting = Literal["count", "binary", "tfidf"]
 
-
-def _param(name: str, msg: str) -> ParameterError:
-    e = ParameterError(msg)
-    e.parameter = name
-    return e
 
 
 def _check_log(log: Any, who: str) -> Any:

@@ -28,7 +28,8 @@ import numpy as np
 
 from . import _core
 from ._output import Col, make_frame
-from .exceptions import DataError, ParameterError
+from .exceptions import DataError
+from .exceptions import param_error as _param
 
 __all__ = [
     "GroupKFold",
@@ -49,11 +50,6 @@ __all__ = [
     "time_ordered_split",
 ]
 
-
-def _param(name: str, msg: str) -> ParameterError:
-    e = ParameterError(msg)
-    e.parameter = name
-    return e
 
 
 # ---------------------------------------------------------------------------------- metrics

@@ -19,6 +19,13 @@ stpe
 from __future__ import annotations
 
 
+def param_error(name: str, message: str) -> ParameterError:
+    """A :class:`ParameterError` about parameter ``name`` (for raising)."""
+    e = ParameterError(message)
+    e.parameter = name
+    return e
+
+
 class TracemillError(ValueError):
     """Base class of all tracemill errors."""
 
@@ -89,4 +96,5 @@ __all__ = [
     "TracemillError",
     "TracemillIOError",
     "TracemillWarning",
+    "param_error",
 ]

@@ -27,9 +27,11 @@ from typing import Any
 
 import numpy as np
 
-from ._output import Col, make_frame
+from ._output import NS_PER_HOUR, Col, make_frame
+from ._output import fmt_hours as _hours
 from .evaluate import GroupKFold, KFold, StratifiedKFold, cross_validate
-from .exceptions import DataError, ParameterError
+from .exceptions import DataError
+from .exceptions import param_error as _param
 from .tree import TreeClassifier
 
 __all__ = [
@@ -44,18 +46,8 @@ __all__ = [
 
 CAUTION = ("Caution: these rules are associations in past cases, not causes; check them with "
            "people who know the process before acting on them.")
-NS_PER_HOUR = 3_600_000_000_000
 
 
-def _param(name: str, msg: str) -> ParameterError:
-    e = ParameterError(msg)
-    e.parameter = name
-    return e
-
-
-def _hours(ns: float) -> str:
-    h = ns / NS_PER_HOUR
-    return f"{h / 24:.1f} d" if abs(h) >= 48 else f"{h:.1f} h"
 
 
 def _attr_values(t: tuple) -> np.ndarray:

@@ -14,15 +14,11 @@ import numpy as np
 from . import _core
 from ._frames import _AWARE, prepare
 from ._output import Col, check_kind, make_frame
-from .exceptions import DataQualityWarning, ParameterError, SchemaError
+from .exceptions import DataQualityWarning, SchemaError
+from .exceptions import param_error as _param
 
 WindowRule = Literal["contained", "intersecting", "started", "completed"]
 
-
-def _param(name: str, msg: str) -> ParameterError:
-    e = ParameterError(msg)
-    e.parameter = name
-    return e
 
 
 def _to_ns(t: Any, name: str) -> int:

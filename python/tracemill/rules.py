@@ -22,7 +22,8 @@ import numpy as np
 
 from . import _core
 from ._output import Col, check_kind, make_frame
-from .exceptions import DataError, DataQualityWarning, ParameterError
+from .exceptions import DataError, DataQualityWarning
+from .exceptions import param_error as _param
 
 Progress = Callable[[int, int], Any] | None
 
@@ -30,11 +31,6 @@ MEASURES = ("support", "confidence", "lift", "leverage", "conviction", "jaccard"
             "kulczynski", "all_confidence", "max_confidence", "imbalance_ratio", "certainty",
             "zhang")
 
-
-def _param(name: str, msg: str) -> ParameterError:
-    e = ParameterError(msg)
-    e.parameter = name
-    return e
 
 
 def _factorize(values: list[Any]) -> tuple[np.ndarray, list[Any]]:

@@ -20,16 +20,12 @@ import numpy as np
 
 from . import _core
 from ._output import Col, check_kind, make_frame
-from .exceptions import NotFittedError, ParameterError
+from .exceptions import NotFittedError
+from .exceptions import param_error as _param
 from .rules import _factorize, _min_support_args
 
 Progress = Callable[[int, int], Any] | None
 
-
-def _param(name: str, msg: str) -> ParameterError:
-    e = ParameterError(msg)
-    e.parameter = name
-    return e
 
 
 def _is_log(x: Any) -> bool:

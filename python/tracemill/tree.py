@@ -23,15 +23,11 @@ import numpy as np
 
 from . import _core
 from ._output import Col, make_frame
-from .exceptions import DataError, NotFittedError, ParameterError
+from .exceptions import DataError, NotFittedError
+from .exceptions import param_error as _param
 
 __all__ = ["TreeClassifier", "TreeRegressor", "split_scores"]
 
-
-def _param(name: str, msg: str) -> ParameterError:
-    e = ParameterError(msg)
-    e.parameter = name
-    return e
 
 
 def _check_int(owner: str, name: str, v: Any, lo: int, allow_none: bool = False) -> None:

@@ -45,9 +45,6 @@
 //! assert_eq!(unseen, 0);
 //! ```
 
-use std::collections::HashMap;
-use std::hash::{BuildHasherDefault, Hasher};
-
 use rayon::prelude::*;
 
 use crate::control::Control;
@@ -114,26 +111,7 @@ impl Csr {
     }
 }
 
-/// A small, fast, non-cryptographic hasher for integer keys (the multiply-rotate scheme of
-/// the Firefox/rustc "Fx" hash). Keys are packed n-grams, not user-controlled strings.
-#[derive(Default, Clone, Copy)]
-pub(crate) struct FxHasher(u64);
-
-impl Hasher for FxHasher {
-    fn finish(&self) -> u64 {
-        self.0
-    }
-    fn write(&mut self, bytes: &[u8]) {
-        for &b in bytes {
-            self.write_u64(u64::from(b));
-        }
-    }
-    fn write_u64(&mut self, i: u64) {
-        self.0 = (self.0.rotate_left(5) ^ i).wrapping_mul(0x51_7c_c1_b7_27_22_0a_95);
-    }
-}
-
-pub(crate) type FxMap<K, V> = HashMap<K, V, BuildHasherDefault<FxHasher>>;
+pub(crate) use crate::hash::FxMap;
 
 /// A fitted n-gram vocabulary: the n-grams that become columns, in column order, as codes of
 /// the fitted activity list.

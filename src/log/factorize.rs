@@ -4,61 +4,13 @@
 //! frame follows the frame. Work is split into chunks encoded in parallel, whose dictionaries are
 //! merged in chunk order (keeping first-appearance order) before the codes are remapped.
 
-use std::collections::HashMap;
-use std::hash::{BuildHasherDefault, Hash, Hasher};
+use std::hash::Hash;
 
 use rayon::prelude::*;
 
 use crate::error::{TmError, TmResult};
 
-/// A small, fast multiplicative hasher (FxHash-style) for short keys; not DoS-resistant, which
-/// is fine for the one-shot local encoding of a user's own data.
-#[derive(Default, Clone, Copy)]
-pub struct FxHasher {
-    hash: u64,
-}
-
-const SEED: u64 = 0x51_7c_c1_b7_27_22_0a_95;
-
-impl Hasher for FxHasher {
-    #[inline]
-    fn write(&mut self, bytes: &[u8]) {
-        let mut chunks = bytes.chunks_exact(8);
-        for c in &mut chunks {
-            let mut b = [0u8; 8];
-            b.copy_from_slice(c);
-            self.add(u64::from_le_bytes(b));
-        }
-        let rest = chunks.remainder();
-        if !rest.is_empty() {
-            let mut b = [0u8; 8];
-            b[..rest.len()].copy_from_slice(rest);
-            self.add(u64::from_le_bytes(b) ^ (rest.len() as u64) << 56);
-        }
-    }
-    #[inline]
-    fn write_u64(&mut self, i: u64) {
-        self.add(i);
-    }
-    #[inline]
-    fn write_usize(&mut self, i: usize) {
-        self.add(i as u64);
-    }
-    #[inline]
-    fn finish(&self) -> u64 {
-        self.hash
-    }
-}
-
-impl FxHasher {
-    #[inline]
-    fn add(&mut self, w: u64) {
-        self.hash = (self.hash.rotate_left(5) ^ w).wrapping_mul(SEED);
-    }
-}
-
-/// A hash map using [`FxHasher`].
-pub type FxMap<K, V> = HashMap<K, V, BuildHasherDefault<FxHasher>>;
+pub use crate::hash::{FxHasher, FxMap};
 
 const NULL: u32 = u32::MAX;
 

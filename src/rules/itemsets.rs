@@ -26,7 +26,6 @@
 //! assert_eq!(r.counts[2], 2);
 //! ```
 
-use std::hash::{BuildHasherDefault, Hasher};
 use std::sync::atomic::{AtomicBool, AtomicUsize, Ordering};
 use std::sync::Mutex;
 
@@ -182,56 +181,7 @@ impl Itemsets {
     }
 }
 
-/// The FxHash function (as in rustc): fast and good enough for short integer keys.
-#[derive(Default, Clone, Copy)]
-pub(crate) struct FxHasher {
-    hash: u64,
-}
-
-const FX_SEED: u64 = 0x51_7c_c1_b7_27_22_0a_95;
-
-impl FxHasher {
-    #[inline]
-    fn add(&mut self, w: u64) {
-        self.hash = (self.hash.rotate_left(5) ^ w).wrapping_mul(FX_SEED);
-    }
-}
-
-impl Hasher for FxHasher {
-    #[inline]
-    fn write(&mut self, bytes: &[u8]) {
-        let mut chunks = bytes.chunks_exact(8);
-        for c in &mut chunks {
-            let mut b = [0u8; 8];
-            b.copy_from_slice(c);
-            self.add(u64::from_le_bytes(b));
-        }
-        let rest = chunks.remainder();
-        if !rest.is_empty() {
-            let mut b = [0u8; 8];
-            b[..rest.len()].copy_from_slice(rest);
-            self.add(u64::from_le_bytes(b));
-        }
-    }
-    #[inline]
-    fn write_u32(&mut self, i: u32) {
-        self.add(u64::from(i));
-    }
-    #[inline]
-    fn write_u64(&mut self, i: u64) {
-        self.add(i);
-    }
-    #[inline]
-    fn write_usize(&mut self, i: usize) {
-        self.add(i as u64);
-    }
-    fn finish(&self) -> u64 {
-        self.hash
-    }
-}
-
-/// A hash map with [`FxHasher`].
-pub(crate) type FxMap<K, V> = std::collections::HashMap<K, V, BuildHasherDefault<FxHasher>>;
+pub(crate) use crate::hash::FxMap;
 
 /// Shared bound on the number of itemsets across parallel tasks.
 pub(crate) struct Limiter {
