@@ -451,7 +451,7 @@ def decision_points(log: Any, *, activities: Sequence[str] | None = None,
 
     References
     ----------
-    Rozinat & van der Aalst (2006), Decision mining in ProM, BPM 2006, LNCS 4102.
+    Rozinat & van der Aalst (2006), decision mining at choice points, BPM 2006, LNCS 4102.
 
     Examples
     --------
