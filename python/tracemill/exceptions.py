@@ -96,5 +96,4 @@ __all__ = [
     "TracemillError",
     "TracemillIOError",
     "TracemillWarning",
-    "param_error",
 ]
