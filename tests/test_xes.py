@@ -413,12 +413,14 @@ def test_log_level_declarations_and_attributes_in_meta() -> None:
         ("identity:id", "id", "0d4a"), ("sites.0", "string", "Ghent")]
 
 
-def test_xes_info_belongs_to_the_log_read_last() -> None:
+def test_xes_info_stays_with_each_log() -> None:
     a = read(one_event())
     assert xes_info(a) is not None
     b = read(one_event())
-    assert xes_info(b) is not None and xes_info(a) is None
+    assert xes_info(b) is not None and xes_info(a) is not None
+    assert xes_info(a) is not xes_info(b)
     assert xes_info(tm.workshop(5, random_state=1)[0]) is None
+    assert xes_info(a.sample(1, random_state=0)) is None
 
 
 def test_missing_trace_label_is_generated_and_repeated_labels_kept() -> None:

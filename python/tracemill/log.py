@@ -81,11 +81,12 @@ class EventLog:
     [1, 1]
     """
 
-    __slots__ = ("_case_originals", "_column_tz", "_h", "_tz")
+    __slots__ = ("_case_originals", "_column_tz", "_h", "_source_info", "_tz")
 
     def __init__(self, handle: Any, case_originals: np.ndarray, tz: str | None,
                  column_tz: dict[str, str | None] | None = None) -> None:
         self._h = handle
+        self._source_info: Any = None  # what the source file declared (see tracemill.xes)
         self._case_originals = case_originals
         self._tz = tz
         self._column_tz = dict(column_tz or {})

@@ -52,9 +52,6 @@ class XesInfo:
     report: dict[str, Any] = field(default_factory=dict)
 
 
-_LAST_INFO: dict[int, XesInfo] = {}
-
-
 def read_xes(source: str | os.PathLike[str] | Any, *, progress: Any = None) -> EventLog:
     """Read an XES log from a path or a binary file-like object (plain or gzip).
 
@@ -93,14 +90,15 @@ def read_xes(source: str | os.PathLike[str] | Any, *, progress: Any = None) -> E
     log = EventLog(handle, np.asarray(handle.case_names, dtype=object), "UTC",
                    {t[0]: "UTC" for t in [*handle.event_attrs(), *handle.case_attrs()]
                     if t[1] == "time"})
-    _LAST_INFO.clear()
-    _LAST_INFO[id(log)] = XesInfo(meta, report)
+    log._source_info = XesInfo(meta, report)
     return log
 
 
 def xes_info(log: EventLog) -> XesInfo | None:
-    """The declarations and reader report of the most recently read XES log, if ``log`` is it."""
-    return _LAST_INFO.get(id(log))
+    """The declarations and reader report of a log read from XES (None for other logs,
+    including selections made from it)."""
+    info = log._source_info
+    return info if isinstance(info, XesInfo) else None
 
 
 def write_xes(log: EventLog, path: str | os.PathLike[str], *, name: str | None = None) -> None:
