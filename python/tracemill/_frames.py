@@ -317,9 +317,8 @@ def encode_times(col: Any, kind: str, name: str, fmt: str | None, *, allow_null:
     if dt.kind in "OSU" or pd.api.types.is_string_dtype(dt):
         present = ~col.isna().to_numpy()
         vals = col.to_numpy(dtype=object)
-        if np.all([isinstance(v, str) for v in vals[present][:1]]) and present.any() and isinstance(
-            vals[np.flatnonzero(present)[0]], str
-        ):
+        first = np.flatnonzero(present)
+        if len(first) and isinstance(vals[first[0]], str):  # text (else datetime objects)
             strs = col.astype("string")
             aware = strs.str.contains(_AWARE, regex=True).fillna(False).to_numpy(dtype=bool)
             is_aware = ("%z" in fmt or "%Z" in fmt) if fmt else _check_mixed(
