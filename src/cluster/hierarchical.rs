@@ -30,7 +30,18 @@
 //!   for single linkage, the nearest-neighbour chain for the reducible linkages (complete,
 //!   average, weighted, Ward) and Müllner's generic algorithm for centroid and median, through
 //!   the `kodama` crate (a port of Müllner's fastcluster);
-//! * from raw vectors for Ward, centroid and median (`O(n d)` memory): Müllner's generic
+//! * from raw vectors for Ward (`O(n d)` memory): the nearest-neighbour chain over cluster
+//!   centroids and sizes. Ward's distance between clusters `A` and `B` is
+//!   `d(A,B)^2 = 2 n_A n_B / (n_A + n_B) * ||c_A - c_B||^2`. Grow a chain whose next element is
+//!   the nearest neighbour of its top (ties: the chain's previous element, then the smallest
+//!   index); when the top and the previous element are reciprocal nearest neighbours, merge
+//!   them. Ward is *reducible* (`d(A∪B, C) >= min(d(A,C), d(B,C))`), so merging a reciprocal
+//!   pair never invalidates the rest of the chain, and the merges found are those of the
+//!   greedy algorithm, only in another order: sorting them by height gives the dendrogram.
+//!   Each nearest-neighbour search scans the active centroids, in parallel for many clusters;
+//!   `O(n)` searches of `O(n d)` each (Müllner 2011, section 3.2; Murtagh 1983, Computer
+//!   Journal 26(4):354–359, for the chain);
+//! * from raw vectors for centroid and median (`O(n d)` memory, not reducible): Müllner's generic
 //!   algorithm over cluster centroids. Each cluster keeps a candidate nearest neighbour among the
 //!   clusters of larger index and a lower bound on that distance; a merge updates candidates
 //!   with one parallel pass over the active clusters, and stale candidates are recomputed
@@ -177,8 +188,8 @@ pub fn linkage_condensed(
 }
 
 /// Ward, centroid or median linkage straight from vectors (`n x d`, row-major) in `O(n d)`
-/// memory with Müllner's generic algorithm. See the module documentation.
-#[allow(clippy::too_many_lines)]
+/// memory: the nearest-neighbour chain for Ward, Müllner's generic algorithm for centroid and
+/// median. See the module documentation.
 pub fn linkage_vectors(
     x: &[f64],
     n: usize,
@@ -198,6 +209,180 @@ pub fn linkage_vectors(
             "hierarchical clustering needs at least 2 points; got {n}"
         )));
     }
+    if method == Linkage::Ward {
+        ward_nn_chain(x, n, d, ctl)
+    } else {
+        generic_vectors(x, n, d, method, ctl)
+    }
+}
+
+/// Smaller of two `(distance, index)` candidates: smaller distance, then smaller index.
+#[inline]
+fn better(p: (f64, usize), q: (f64, usize)) -> (f64, usize) {
+    if q.0 < p.0 || (q.0 == p.0 && q.1 < p.1) {
+        q
+    } else {
+        p
+    }
+}
+
+/// `sqeuclidean(a, b)`, bit for bit, unless it is certain that `sqeuclidean(a, b) > lim`
+/// (then `None`). The partial sums grow monotonically in floating point (non-negative terms
+/// in the same accumulators), so the early exit never drops a candidate that could tie.
+#[inline]
+fn sqeuclidean_below(a: &[f64], b: &[f64], lim: f64) -> Option<f64> {
+    let mut acc = [0.0f64; 4];
+    let n4 = a.len() / 4 * 4;
+    let (a4, ar) = a.split_at(n4);
+    let (b4, br) = b.split_at(n4);
+    for (x, y) in a4.chunks_exact(4).zip(b4.chunks_exact(4)) {
+        for l in 0..4 {
+            let t = x[l] - y[l];
+            acc[l] += t * t;
+        }
+        if (acc[0] + acc[1]) + (acc[2] + acc[3]) > lim {
+            return None;
+        }
+    }
+    let mut s = (acc[0] + acc[1]) + (acc[2] + acc[3]);
+    for (x, y) in ar.iter().zip(br) {
+        let t = x - y;
+        s += t * t;
+    }
+    Some(s)
+}
+
+/// Ward linkage from vectors with the nearest-neighbour chain (see the module documentation).
+/// Active clusters are kept densely packed (centroids, sizes, slot ids) so that each search is
+/// one contiguous scan; slots are the ids of `to_scipy`.
+fn ward_nn_chain(x: &[f64], n: usize, d: usize, ctl: &Control) -> TmResult<Vec<f64>> {
+    // Below this many active clusters a search runs on one thread.
+    const PAR_MIN: usize = 2048;
+    const CHUNK: usize = 1024;
+    let mut cen = x.to_vec(); // centroid of the cluster at dense position p
+    let mut wt = vec![1.0f64; n]; // its size
+    let mut iw = vec![1.0f64; n]; // 1 / size
+    let mut slot: Vec<usize> = (0..n).collect(); // its slot
+    let mut pos: Vec<usize> = (0..n).collect(); // dense position of each active slot
+    let mut height_of = vec![0.0f64; n]; // height of the latest merge into each slot
+    let mut steps = Vec::with_capacity(n - 1);
+    let mut chain: Vec<usize> = Vec::with_capacity(n); // slots
+    let mut searches = 0usize;
+    ctl.set_total((n - 1) as u64);
+    while steps.len() < n - 1 {
+        let m = slot.len();
+        if chain.is_empty() {
+            chain.push(slot[0]);
+        }
+        let top = chain[chain.len() - 1];
+        let prev = (chain.len() >= 2).then(|| chain[chain.len() - 2]);
+        let pt = pos[top];
+        // Nearest neighbour of `top` among the other active clusters: (distance^2, slot).
+        let (ct, wtop) = (&cen[pt * d..(pt + 1) * d], wt[pt]);
+        let ward = |p: usize| {
+            let w = wt[p];
+            2.0 * wtop * w / (wtop + w) * sqeuclidean(ct, &cen[p * d..(p + 1) * d])
+        };
+        // The nearest neighbour is at most as far as the chain's previous element (top was
+        // pushed as its nearest neighbour): a bound for the early exit from the start.
+        let v_prev = prev.map_or(f64::INFINITY, |pv| ward(pos[pv]));
+        let iwt = 1.0 / wtop;
+        let scan = |lo: usize, hi: usize| -> (f64, usize) {
+            let mut best = (f64::INFINITY, usize::MAX);
+            // Ward distance > bound  <=>  ||c_t - c_p||^2 > bound (1/n_t + 1/n_p) / 2; the
+            // test is widened by a relative 1e-12 so that rounding never drops a candidate.
+            let mut half = v_prev * (0.5 + 1e-12);
+            for p in lo..hi {
+                if p == pt {
+                    continue;
+                }
+                let lim = half * (iwt + iw[p]);
+                if let Some(dd) = sqeuclidean_below(ct, &cen[p * d..(p + 1) * d], lim) {
+                    let w = wt[p];
+                    let v = 2.0 * wtop * w / (wtop + w) * dd;
+                    if v < best.0 || (v == best.0 && slot[p] < best.1) {
+                        best = (v, slot[p]);
+                        half = half.min(v * (0.5 + 1e-12));
+                    }
+                }
+            }
+            best
+        };
+        let mut best = if m < PAR_MIN {
+            scan(0, m)
+        } else {
+            (0..m.div_ceil(CHUNK))
+                .into_par_iter()
+                .map(|c| scan(c * CHUNK, ((c + 1) * CHUNK).min(m)))
+                .reduce(|| (f64::INFINITY, usize::MAX), better)
+        };
+        if let Some(pv) = prev {
+            // Prefer the chain's previous element on ties; the scan saw it, so its distance
+            // can only equal the minimum, never undercut it.
+            if v_prev <= best.0 {
+                best = (v_prev, pv);
+            }
+        }
+        searches += 1;
+        if searches % 256 == 0 {
+            ctl.check()?;
+        }
+        if best.1 == usize::MAX || !best.0.is_finite() {
+            return Err(TmError::data(
+                "Ward linkage met a non-finite distance; the vectors must be finite and not so \
+                 large that their squared differences overflow",
+            ));
+        }
+        if Some(best.1) != prev {
+            chain.push(best.1);
+            continue;
+        }
+        // Reciprocal nearest neighbours: merge them into the larger slot.
+        chain.truncate(chain.len() - 2);
+        let (a, b) = (top.min(best.1), top.max(best.1));
+        let (pa, pb) = (pos[a], pos[b]);
+        let (na, nb) = (wt[pa], wt[pb]);
+        for j in 0..d {
+            let (ca, cb) = (cen[pa * d + j], cen[pb * d + j]);
+            cen[pb * d + j] = (na * ca + nb * cb) / (na + nb);
+        }
+        wt[pb] = na + nb;
+        iw[pb] = 1.0 / (na + nb);
+        // Ward heights are monotone; rounding could only make a merge a hair lower than the
+        // merges it contains, which would break the sorted layout: keep it at least as high.
+        let h = best.0.sqrt().max(height_of[a]).max(height_of[b]);
+        height_of[b] = h;
+        steps.push((a, b, h, (na + nb) as usize));
+        // Remove `a` from the dense arrays (swap with the last one).
+        let last = m - 1;
+        if pa != last {
+            let (head, tail) = cen.split_at_mut(last * d);
+            head[pa * d..(pa + 1) * d].copy_from_slice(&tail[..d]);
+            wt[pa] = wt[last];
+            iw[pa] = iw[last];
+            slot[pa] = slot[last];
+            pos[slot[pa]] = pa;
+        }
+        cen.truncate(last * d);
+        wt.truncate(last);
+        iw.truncate(last);
+        slot.truncate(last);
+        ctl.advance(1);
+    }
+    ctl.check()?;
+    Ok(to_scipy(n, steps, true))
+}
+
+/// Centroid or median linkage (also Ward, for checks) from vectors with Müllner's generic
+/// algorithm. See the module documentation.
+#[allow(clippy::too_many_lines)]
+fn generic_vectors(
+    x: &[f64],
+    n: usize,
+    d: usize,
+    method: Linkage,
+    ctl: &Control,
+) -> TmResult<Vec<f64>> {
     let mut cen = x.to_vec();
     let mut size = vec![1usize; n];
     let mut active = vec![true; n];
@@ -476,5 +661,35 @@ mod tests {
         assert_eq!(cut(&z, 5, None, Some(1.5)).unwrap(), vec![0, 0, 1, 2, 3]);
         assert!(linkage_vectors(&P5, 5, 2, Linkage::Single, &Control::new()).is_err());
         assert!(cut(&z, 5, Some(9), None).is_err());
+    }
+
+    /// Partition after each merge, as a canonical label vector.
+    fn partitions(z: &[f64], n: usize) -> Vec<Vec<i64>> {
+        (1..=n).map(|k| cut(z, n, Some(k), None).unwrap()).collect()
+    }
+
+    #[test]
+    fn ward_nn_chain_matches_generic_on_random_data() {
+        use rand::SeedableRng;
+        use rand_distr::{Distribution, Normal};
+        use rand_xoshiro::Xoshiro256PlusPlus;
+        // Small sets run one thread per search; 2500 points exercise the parallel scan.
+        for (seed, n, d) in [(1u64, 40usize, 2usize), (2, 300, 5), (3, 2500, 3)] {
+            let mut rng = Xoshiro256PlusPlus::seed_from_u64(seed);
+            let norm = Normal::new(0.0, 1.0).unwrap();
+            let x: Vec<f64> = (0..n * d).map(|_| norm.sample(&mut rng)).collect();
+            let ctl = Control::new();
+            let chain = ward_nn_chain(&x, n, d, &ctl).unwrap();
+            let generic = generic_vectors(&x, n, d, Linkage::Ward, &ctl).unwrap();
+            for (a, b) in heights(&chain).iter().zip(heights(&generic)) {
+                approx::assert_relative_eq!(*a, b, max_relative = 1e-12);
+            }
+            assert_eq!(partitions(&chain, n), partitions(&generic, n), "n = {n}");
+            // Sizes agree and every row merges clusters made earlier.
+            for (r, (p, q)) in chain.chunks(4).zip(generic.chunks(4)).enumerate() {
+                assert_eq!(p[3], q[3]);
+                assert!(p[0] < p[1] && p[1] < (n + r) as f64);
+            }
+        }
     }
 }
