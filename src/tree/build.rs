@@ -104,6 +104,19 @@ fn classes_of<'a>(t: &Target<'a>) -> &'a [u32] {
     }
 }
 
+/// The `x log x` lookup table for unweighted entropy-based criteria on classes (empty when the
+/// criterion or the weights make it useless).
+fn entropy_table(weighted: bool, target: &Target<'_>, params: &TreeParams, n: usize) -> Vec<f64> {
+    if !weighted
+        && n_classes_of(target) > 0
+        && matches!(params.criterion, Criterion::Entropy | Criterion::GainRatio)
+    {
+        xlogx_table(n)
+    } else {
+        Vec::new()
+    }
+}
+
 fn n_classes_of(t: &Target<'_>) -> usize {
     match t {
         Target::Classes { n_classes, .. } => *n_classes,
@@ -155,14 +168,7 @@ pub(crate) fn grow(
         }
     };
     let weighted = w.iter().any(|&v| v != 1.0);
-    let table = if !weighted
-        && n_classes_of(&target) > 0
-        && matches!(params.criterion, Criterion::Entropy | Criterion::GainRatio)
-    {
-        xlogx_table(n)
-    } else {
-        Vec::new()
-    };
+    let table = entropy_table(weighted, &target, params, n);
     let ctx = Ctx {
         kinds: x.kinds(),
         weighted,
@@ -555,14 +561,7 @@ pub fn root_split_scores(
         }
     };
     let weighted = w.iter().any(|&v| v != 1.0);
-    let table = if !weighted
-        && n_classes_of(&target) > 0
-        && matches!(params.criterion, Criterion::Entropy | Criterion::GainRatio)
-    {
-        xlogx_table(n)
-    } else {
-        Vec::new()
-    };
+    let table = entropy_table(weighted, &target, params, n);
     let ctx = Ctx {
         kinds: x.kinds(),
         weighted,
