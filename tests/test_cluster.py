@@ -8,6 +8,7 @@ of the reference notes (section A/B: X6, P5, toy log T).
 
 from __future__ import annotations
 
+import os
 import pickle
 import sys
 from pathlib import Path
@@ -105,12 +106,49 @@ def test_kmeans_sparse_and_weights():
     assert ours.inertia_ == pytest.approx(sk.inertia_, rel=1e-9)
 
 
-def test_kmeans_same_result_on_one_and_many_threads(monkeypatch):
-    X = np.random.default_rng(3).normal(size=(5000, 4))
-    a = KMeans(4, n_init=2, random_state=5).fit(X)
-    b = KMeans(4, n_init=2, random_state=5).fit(X)
-    np.testing.assert_array_equal(a.labels_, b.labels_)
-    assert a.inertia_ == b.inertia_
+def test_kmeans_same_result_on_one_and_many_threads():
+    # Sums are reduced per fixed chunk in chunk order: one thread gives the same bits.
+    import subprocess
+
+    code = (
+        "import numpy as np, tracemill as tm\n"
+        "X = np.random.default_rng(3).normal(size=(20000, 6))\n"
+        "km = tm.cluster.KMeans(6, n_init=2, random_state=5, tol=0).fit(X)\n"
+        "print(km.inertia_.hex(), km.cluster_centers_.tobytes().hex()[:400], km.n_iter_)\n"
+    )
+    out = {t: subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                             env={**os.environ, "RAYON_NUM_THREADS": t}, check=True).stdout
+           for t in ("1", "2", "3")}
+    assert out["1"] == out["2"] == out["3"]
+
+
+def test_kmeans_empty_cluster_relocated_as_sklearn():
+    # A start centre far from every point gets no point in the first assignment and takes
+    # the point farthest from its centre, as in scikit-learn (lloyd); both then agree.
+    X = _datasets()["iris"]
+    init = np.vstack([X[[0, 60]], np.full((1, 4), 100.0)])
+    ours = KMeans(3, init=init, max_iter=300, tol=0).fit(X)
+    sk = SkKMeans(3, init=init, n_init=1, max_iter=300, tol=0, algorithm="lloyd").fit(X)
+    np.testing.assert_array_equal(ours.labels_, sk.labels_)
+    assert ours.inertia_ == pytest.approx(sk.inertia_, rel=1e-9)
+    assert ours.n_iter_ == sk.n_iter_
+
+
+def test_kmeans_long_run_matches_sklearn_lloyd():
+    # Many iterations over overlapping groups: the bounds skip most points and the sums are
+    # only corrected for points that move, yet every step equals scikit-learn's lloyd.
+    rng = np.random.default_rng(11)
+    X = rng.uniform(size=(20000, 4))
+    w = rng.uniform(0.5, 2.0, len(X))
+    init = X[rng.choice(len(X), 12, replace=False)]
+    ours = KMeans(12, init=init, max_iter=300, tol=0).fit(X, sample_weight=w)
+    sk = SkKMeans(12, init=init, n_init=1, max_iter=300, tol=0, algorithm="lloyd").fit(
+        X, sample_weight=w)
+    assert ours.n_iter_ == sk.n_iter_ > 20
+    np.testing.assert_array_equal(ours.labels_, sk.labels_)
+    assert ours.inertia_ == pytest.approx(sk.inertia_, rel=1e-9)
+    np.testing.assert_allclose(ours.cluster_centers_, sk.cluster_centers_, rtol=1e-9,
+                               atol=1e-12)
 
 
 # ---------------------------------------------------------------------------- hierarchical

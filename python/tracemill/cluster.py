@@ -117,9 +117,11 @@ def _matrix(X: Any, *, allow_sparse: bool = True) -> _Matrix:
     n, d = x.shape
     if n == 0:
         raise DataError("X has no rows: there are no cases to cluster")
-    bad = ~np.isfinite(x)
-    if bad.any():
-        r, c = np.argwhere(bad)[0]
+    with np.errstate(over="ignore", invalid="ignore"):
+        # A sum is finite when every term is (it may overflow: then look value by value).
+        maybe_bad = not np.isfinite(np.add.reduce(x, axis=None))
+    if maybe_bad and not np.isfinite(x).all():
+        r, c = np.argwhere(~np.isfinite(x))[0]
         col = names[c] if names else str(c)
         raise DataError(f"feature column {col!r} holds a non-finite value ({x[r, c]}) at row "
                         f"{r}; features must be finite")

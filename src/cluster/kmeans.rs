@@ -33,10 +33,12 @@ use rand_xoshiro::Xoshiro256PlusPlus;
 use rayon::prelude::*;
 
 use crate::control::Control;
-use crate::distance::sqeuclidean;
+use crate::distance::{sqeuclidean, sqeuclidean_many};
 use crate::error::{TmError, TmResult};
 
 const CHUNK: usize = 2048;
+/// How many unsettled points ahead a pass starts loading rows.
+const PREFETCH_AHEAD: usize = 6;
 
 /// The points to cluster.
 #[derive(Debug, Clone, Copy)]
@@ -138,8 +140,23 @@ impl Points<'_> {
         }
     }
 
+    /// Ask the CPU to start loading row `i` (dense rows only; a hint, never a fault).
+    #[inline(always)]
+    fn prefetch_row(&self, i: usize) {
+        #[cfg(target_arch = "x86_64")]
+        if let Points::Dense { x, d, .. } = *self {
+            use std::arch::x86_64::{_mm_prefetch, _MM_HINT_T0};
+            let row = &x[i * d..(i + 1) * d];
+            for line in row.chunks(8) {
+                // SAFETY: a prefetch of an address inside a live slice; prefetches never
+                // fault and change no data.
+                unsafe { _mm_prefetch::<_MM_HINT_T0>(line.as_ptr().cast::<i8>()) };
+            }
+        }
+    }
+
     /// Squared distance of row `i` to `c`, given `|c|^2` (used for sparse rows).
-    #[inline]
+    #[inline(always)]
     fn sqdist(&self, i: usize, c: &[f64], c_sq: f64, x_sq: &[f64]) -> f64 {
         match *self {
             Points::Dense { x, d, .. } => sqeuclidean(&x[i * d..(i + 1) * d], c),
@@ -192,29 +209,44 @@ impl Points<'_> {
         seen.len()
     }
 
-    /// Per-column unweighted variance, averaged over columns.
+    /// Per-column unweighted variance, averaged over columns (two passes, reduced per
+    /// fixed-size chunk in chunk order).
     fn mean_variance(&self) -> f64 {
         let (n, d) = (self.n(), self.d());
         if n == 0 || d == 0 {
             return 0.0;
         }
-        let mut sum = vec![0.0; d];
-        let mut sq = vec![0.0; d];
-        let mut row = vec![0.0; d];
-        for i in 0..n {
-            self.row_into(i, &mut row);
-            for j in 0..d {
-                sum[j] += row[j];
+        let column_sums = |f: &(dyn Fn(&[f64], &mut [f64]) + Sync)| -> Vec<f64> {
+            let parts: Vec<Vec<f64>> = (0..n.div_ceil(CHUNK))
+                .into_par_iter()
+                .map(|ci| {
+                    let mut acc = vec![0.0; d];
+                    let mut row = vec![0.0; d];
+                    for i in ci * CHUNK..((ci + 1) * CHUNK).min(n) {
+                        self.row_into(i, &mut row);
+                        f(&row, &mut acc);
+                    }
+                    acc
+                })
+                .collect();
+            let mut total = vec![0.0; d];
+            for part in parts {
+                total.iter_mut().zip(part).for_each(|(a, b)| *a += b);
             }
-        }
-        let mean: Vec<f64> = sum.iter().map(|s| s / n as f64).collect();
-        for i in 0..n {
-            self.row_into(i, &mut row);
-            for j in 0..d {
-                let t = row[j] - mean[j];
-                sq[j] += t * t;
+            total
+        };
+        let mean: Vec<f64> = column_sums(&|row, acc| {
+            acc.iter_mut().zip(row).for_each(|(a, v)| *a += v);
+        })
+        .iter()
+        .map(|s| s / n as f64)
+        .collect();
+        let sq = column_sums(&|row, acc| {
+            for ((a, v), m) in acc.iter_mut().zip(row).zip(&mean) {
+                let t = v - m;
+                *a += t * t;
             }
-        }
+        });
         sq.iter().map(|s| s / n as f64).sum::<f64>() / d as f64
     }
 }
@@ -405,50 +437,287 @@ fn random_init(p: &Points<'_>, k: usize, seed: u64) -> Vec<f64> {
     c
 }
 
-/// Weighted sums and weights per cluster, reduced chunk by chunk in order.
-fn cluster_sums(p: &Points<'_>, w: &[f64], labels: &[u32], k: usize) -> (Vec<f64>, Vec<f64>) {
-    let (n, d) = (p.n(), p.d());
-    let parts: Vec<(Vec<f64>, Vec<f64>)> = (0..n.div_ceil(CHUNK))
-        .into_par_iter()
-        .map(|ci| {
-            let mut s = vec![0.0; k * d];
-            let mut ws = vec![0.0; k];
-            for i in ci * CHUNK..((ci + 1) * CHUNK).min(n) {
-                let l = labels[i] as usize;
-                ws[l] += w[i];
-                match *p {
-                    Points::Dense { x, .. } => {
-                        let row = &x[i * d..(i + 1) * d];
-                        for (a, b) in s[l * d..(l + 1) * d].iter_mut().zip(row) {
-                            *a += w[i] * b;
-                        }
-                    }
-                    Points::Sparse {
-                        indptr,
-                        indices,
-                        data,
-                        ..
-                    } => {
-                        for q in indptr[i] as usize..indptr[i + 1] as usize {
-                            s[l * d + indices[q] as usize] += w[i] * data[q];
-                        }
+/// Centre movement since the last pass, for Hamerly's bound update.
+struct Shift<'s> {
+    /// Movement of each centre.
+    by: &'s [f64],
+    /// Largest movement and the centre that made it.
+    m1: f64,
+    a1: usize,
+    /// Second-largest movement.
+    m2: f64,
+}
+
+impl<'s> Shift<'s> {
+    fn new(by: &'s [f64]) -> Self {
+        let (mut m1, mut m2, mut a1) = (0.0f64, 0.0f64, usize::MAX);
+        for (c, &s) in by.iter().enumerate() {
+            if s > m1 {
+                m2 = m1;
+                m1 = s;
+                a1 = c;
+            } else if s > m2 {
+                m2 = s;
+            }
+        }
+        Shift { by, m1, a1, m2 }
+    }
+}
+
+/// What one assignment pass hands back: the change of the per-cluster weighted sums, weights
+/// and positive-weight counts, and how many labels changed.
+struct PassOut {
+    sums: Vec<f64>,
+    wsum: Vec<f64>,
+    count: Vec<i64>,
+    changed: usize,
+}
+
+impl PassOut {
+    fn zero(k: usize, d: usize) -> Self {
+        PassOut {
+            sums: vec![0.0; k * d],
+            wsum: vec![0.0; k],
+            count: vec![0; k],
+            changed: 0,
+        }
+    }
+}
+
+/// Add `sign * w * row i` to the sums of cluster `c`.
+#[inline(always)]
+fn accumulate(p: &Points<'_>, i: usize, wi: f64, c: usize, out: &mut PassOut, sign: f64) {
+    let d = p.d();
+    let s = &mut out.sums[c * d..(c + 1) * d];
+    let f = sign * wi;
+    match *p {
+        Points::Dense { x, .. } => {
+            for (a, b) in s.iter_mut().zip(&x[i * d..(i + 1) * d]) {
+                *a += f * b;
+            }
+        }
+        Points::Sparse {
+            indptr,
+            indices,
+            data,
+            ..
+        } => {
+            for q in indptr[i] as usize..indptr[i + 1] as usize {
+                s[indices[q] as usize] += f * data[q];
+            }
+        }
+    }
+    out.wsum[c] += f;
+    if wi > 0.0 {
+        out.count[c] += if sign > 0.0 { 1 } else { -1 };
+    }
+}
+
+/// The read-only inputs of one assignment pass.
+struct PassCtx<'a> {
+    p: &'a Points<'a>,
+    w: &'a [f64],
+    centers: &'a [f64],
+    k: usize,
+    x_sq: &'a [f64],
+    c_sq: &'a [f64],
+    half: &'a [f64],
+    shift: Option<&'a Shift<'a>>,
+    fresh: bool,
+}
+
+impl PassCtx<'_> {
+    /// One chunk of the pass, starting at point `first`; compiled for AVX2 when the CPU has
+    /// it. The arithmetic is the same either way (no fused multiply-add, same accumulation
+    /// order), so the results do not depend on the CPU.
+    fn chunk(&self, first: usize, lab: &mut [u32], up: &mut [f64], lo: &mut [f64]) -> PassOut {
+        #[cfg(target_arch = "x86_64")]
+        if std::arch::is_x86_feature_detected!("avx2") {
+            // SAFETY: the CPU supports AVX2, checked just above.
+            return unsafe { self.chunk_avx2(first, lab, up, lo) };
+        }
+        self.chunk_body(first, lab, up, lo)
+    }
+
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx2")]
+    fn chunk_avx2(&self, first: usize, lab: &mut [u32], up: &mut [f64], lo: &mut [f64]) -> PassOut {
+        self.chunk_body(first, lab, up, lo)
+    }
+
+    #[inline(always)]
+    fn chunk_body(&self, first: usize, lab: &mut [u32], up: &mut [f64], lo: &mut [f64]) -> PassOut {
+        let (k, d, centers, c_sq, x_sq, half) = (
+            self.k,
+            self.p.d(),
+            self.centers,
+            self.c_sq,
+            self.x_sq,
+            self.half,
+        );
+        let mut out = PassOut::zero(k, self.p.d());
+        let mut dist = vec![0.0; k];
+        // Phase 1: move the bounds and keep the points they cannot settle, with their bound
+        // `m`. Phase 2 reads the rows of those points only, fetching a few points ahead: they
+        // are scattered, and waiting for each row in turn would leave the core idle.
+        let mut todo: Vec<(u32, f64)> = Vec::new();
+        match self.shift {
+            Some(s) => {
+                for t in 0..lab.len() {
+                    let old = lab[t] as usize;
+                    up[t] += s.by[old];
+                    lo[t] -= if old == s.a1 { s.m2 } else { s.m1 };
+                    let m = half[old].max(lo[t]);
+                    if up[t] > m {
+                        todo.push((t as u32, m));
+                    } else if self.fresh {
+                        accumulate(self.p, first + t, self.w[first + t], old, &mut out, 1.0);
                     }
                 }
             }
-            (s, ws)
-        })
-        .collect();
-    let mut s = vec![0.0; k * d];
-    let mut ws = vec![0.0; k];
-    for (ps, pw) in parts {
-        s.iter_mut().zip(ps).for_each(|(a, b)| *a += b);
-        ws.iter_mut().zip(pw).for_each(|(a, b)| *a += b);
+            None => todo.extend((0..lab.len() as u32).map(|t| (t, f64::NEG_INFINITY))),
+        }
+        for (q, &(t, m)) in todo.iter().enumerate() {
+            if let Some(&(ahead, _)) = todo.get(q + PREFETCH_AHEAD) {
+                self.p.prefetch_row(first + ahead as usize);
+            }
+            let t = t as usize;
+            let i = first + t;
+            let old = lab[t] as usize;
+            if self.shift.is_some() {
+                up[t] = self
+                    .p
+                    .sqdist(i, &centers[old * d..(old + 1) * d], c_sq[old], x_sq)
+                    .sqrt();
+                if up[t] <= m {
+                    if self.fresh {
+                        accumulate(self.p, i, self.w[i], old, &mut out, 1.0);
+                    }
+                    continue;
+                }
+            }
+            match *self.p {
+                Points::Dense { x, .. } => {
+                    sqeuclidean_many(&x[i * d..(i + 1) * d], centers, &mut dist);
+                }
+                Points::Sparse { .. } => {
+                    for (c, dd) in dist.iter_mut().enumerate() {
+                        *dd = self
+                            .p
+                            .sqdist(i, &centers[c * d..(c + 1) * d], c_sq[c], x_sq);
+                    }
+                }
+            }
+            let (mut b1, mut d1, mut d2) = (0usize, f64::INFINITY, f64::INFINITY);
+            for (c, &dd) in dist.iter().enumerate() {
+                if dd < d1 {
+                    d2 = d1;
+                    d1 = dd;
+                    b1 = c;
+                } else if dd < d2 {
+                    d2 = dd;
+                }
+            }
+            lab[t] = b1 as u32;
+            up[t] = d1.sqrt();
+            lo[t] = d2.sqrt();
+            if self.fresh {
+                accumulate(self.p, i, self.w[i], b1, &mut out, 1.0);
+            }
+            if b1 != old {
+                out.changed += 1;
+                if !self.fresh {
+                    accumulate(self.p, i, self.w[i], old, &mut out, -1.0);
+                    accumulate(self.p, i, self.w[i], b1, &mut out, 1.0);
+                }
+            }
+        }
+        out
     }
-    (s, ws)
+}
+
+/// One assignment pass against `centers`, in fixed chunks reduced in chunk order.
+///
+/// With `shift`, Hamerly's bounds are first moved by the last centre update and points whose
+/// bounds prove their centre unchanged are skipped without reading their row. With `fresh`,
+/// the output holds the full per-cluster sums of the new labels; otherwise only the change
+/// caused by points that moved (so skipped points cost a few bytes each).
+#[allow(clippy::too_many_arguments)]
+fn assign_pass(
+    p: &Points<'_>,
+    w: &[f64],
+    centers: &[f64],
+    k: usize,
+    x_sq: &[f64],
+    labels: &mut [u32],
+    upper: &mut [f64],
+    lower: &mut [f64],
+    shift: Option<&Shift<'_>>,
+    fresh: bool,
+) -> PassOut {
+    let d = p.d();
+    let c_sq: Vec<f64> = centers
+        .chunks(d.max(1))
+        .map(|c| c.iter().map(|v| v * v).sum())
+        .collect();
+    // s(c): half the distance to the closest other centre.
+    let mut half = vec![f64::INFINITY; k];
+    if shift.is_some() {
+        for a in 0..k {
+            for b in a + 1..k {
+                let dd = sqeuclidean(&centers[a * d..(a + 1) * d], &centers[b * d..(b + 1) * d])
+                    .sqrt()
+                    / 2.0;
+                half[a] = half[a].min(dd);
+                half[b] = half[b].min(dd);
+            }
+        }
+    }
+    let ctx = PassCtx {
+        p,
+        w,
+        centers,
+        k,
+        x_sq,
+        c_sq: &c_sq,
+        half: &half,
+        shift,
+        fresh,
+    };
+    let parts: Vec<PassOut> = labels
+        .par_chunks_mut(CHUNK)
+        .zip(upper.par_chunks_mut(CHUNK))
+        .zip(lower.par_chunks_mut(CHUNK))
+        .enumerate()
+        .map(|(ci, ((lab, up), lo))| ctx.chunk(ci * CHUNK, lab, up, lo))
+        .collect();
+    let mut total = PassOut::zero(k, d);
+    for part in parts {
+        total
+            .sums
+            .iter_mut()
+            .zip(part.sums)
+            .for_each(|(a, b)| *a += b);
+        total
+            .wsum
+            .iter_mut()
+            .zip(part.wsum)
+            .for_each(|(a, b)| *a += b);
+        total
+            .count
+            .iter_mut()
+            .zip(part.count)
+            .for_each(|(a, b)| *a += b);
+        total.changed += part.changed;
+    }
+    total
 }
 
 /// One run from `centers`; returns `(centers, labels, inertia, n_iter)`.
-#[allow(clippy::too_many_lines)]
+///
+/// The per-cluster sums are kept from pass to pass and only corrected for the points that
+/// changed cluster; they are recomputed in full on the first pass and after an empty cluster
+/// was relocated (the relocation moves a centre without moving a label, as scikit-learn does).
 fn run_one(
     p: &Points<'_>,
     w: &[f64],
@@ -461,92 +730,55 @@ fn run_one(
     let (n, d) = (p.n(), p.d());
     let dense = matches!(p, Points::Dense { .. });
     let x_sq = p.row_sq_norms();
-    let mut labels = vec![0u32; n];
-    let mut labels_old = vec![u32::MAX; n];
-    // Hamerly bounds (dense only): distances, not squared.
+    // u32::MAX: no label yet, so the first pass counts every point as changed.
+    let mut labels = vec![u32::MAX; n];
+    // Hamerly bounds (used for dense rows only): distances, not squared.
     let mut upper = vec![f64::INFINITY; n];
     let mut lower = vec![0.0f64; n];
+    let mut sums = vec![0.0; k * d];
+    let mut wsum = vec![0.0; k];
+    let mut count = vec![0i64; k];
+    let mut shift: Vec<f64> = Vec::new();
+    let mut fresh = true;
     let mut strict = false;
     let mut it = 0;
-
-    // One assignment step against `centers`; returns nothing, updates labels (and bounds).
-    let assign = |centers: &[f64],
-                  labels: &mut [u32],
-                  upper: &mut [f64],
-                  lower: &mut [f64],
-                  use_bounds: bool| {
-        let c_sq: Vec<f64> = centers
-            .chunks(d.max(1))
-            .map(|c| c.iter().map(|v| v * v).sum())
-            .collect();
-        // s(c): half the distance to the closest other centre.
-        let mut half = vec![f64::INFINITY; k];
-        if use_bounds {
-            for a in 0..k {
-                for b in 0..k {
-                    if a != b {
-                        let dd =
-                            sqeuclidean(&centers[a * d..(a + 1) * d], &centers[b * d..(b + 1) * d])
-                                .sqrt();
-                        half[a] = half[a].min(dd / 2.0);
-                    }
-                }
-            }
-        }
-        labels
-            .par_chunks_mut(CHUNK)
-            .zip(upper.par_chunks_mut(CHUNK))
-            .zip(lower.par_chunks_mut(CHUNK))
-            .enumerate()
-            .for_each(|(ci, ((lab, up), lo))| {
-                for t in 0..lab.len() {
-                    let i = ci * CHUNK + t;
-                    if use_bounds {
-                        let a = lab[t] as usize;
-                        let m = half[a].max(lo[t]);
-                        if up[t] <= m {
-                            continue;
-                        }
-                        up[t] = p
-                            .sqdist(i, &centers[a * d..(a + 1) * d], c_sq[a], &x_sq)
-                            .sqrt();
-                        if up[t] <= m {
-                            continue;
-                        }
-                    }
-                    let (mut b1, mut d1, mut d2) = (0usize, f64::INFINITY, f64::INFINITY);
-                    for c in 0..k {
-                        let dd = p.sqdist(i, &centers[c * d..(c + 1) * d], c_sq[c], &x_sq);
-                        if dd < d1 {
-                            d2 = d1;
-                            d1 = dd;
-                            b1 = c;
-                        } else if dd < d2 {
-                            d2 = dd;
-                        }
-                    }
-                    lab[t] = b1 as u32;
-                    up[t] = d1.sqrt();
-                    lo[t] = d2.sqrt();
-                }
-            });
-    };
-
     while it < max_iter {
         if it % 4 == 0 {
             ctl.check()?;
         }
-        assign(
+        let sh = (dense && it > 0).then(|| Shift::new(&shift));
+        let pass = assign_pass(
+            p,
+            w,
             &centers,
+            k,
+            &x_sq,
             &mut labels,
             &mut upper,
             &mut lower,
-            dense && it > 0,
+            sh.as_ref(),
+            fresh,
         );
-        let (mut sums, mut wsum) = cluster_sums(p, w, &labels, k);
-        // Relocate empty clusters to the points farthest from their centres.
-        let empty: Vec<usize> = (0..k).filter(|&c| wsum[c] == 0.0).collect();
+        if fresh {
+            sums = pass.sums;
+            wsum = pass.wsum;
+            count = pass.count;
+        } else {
+            sums.iter_mut().zip(&pass.sums).for_each(|(a, b)| *a += b);
+            wsum.iter_mut().zip(&pass.wsum).for_each(|(a, b)| *a += b);
+            count.iter_mut().zip(&pass.count).for_each(|(a, b)| *a += b);
+        }
+        fresh = false;
+        // Relocate empty clusters to the points farthest from their centres; the labels stay,
+        // so the sums are recomputed on the next pass.
+        let empty: Vec<usize> = (0..k).filter(|&c| count[c] == 0).collect();
+        let (mut csum, mut cw) = (sums.clone(), wsum.clone());
+        for &c in &empty {
+            csum[c * d..(c + 1) * d].iter_mut().for_each(|v| *v = 0.0);
+            cw[c] = 0.0;
+        }
         if !empty.is_empty() {
+            fresh = true;
             let c_sq: Vec<f64> = centers
                 .chunks(d.max(1))
                 .map(|c| c.iter().map(|v| v * v).sum())
@@ -566,22 +798,22 @@ fn run_one(
                 let old = labels[far] as usize;
                 p.row_into(far, &mut row);
                 for j in 0..d {
-                    sums[old * d + j] -= w[far] * row[j];
-                    sums[c * d + j] = w[far] * row[j];
+                    csum[old * d + j] -= w[far] * row[j];
+                    csum[c * d + j] = w[far] * row[j];
                 }
-                wsum[c] = w[far];
-                wsum[old] -= w[far];
+                cw[c] = w[far];
+                cw[old] -= w[far];
             }
         }
         let mut new_centers = centers.clone();
         for c in 0..k {
-            if wsum[c] > 0.0 {
+            if cw[c] > 0.0 {
                 for j in 0..d {
-                    new_centers[c * d + j] = sums[c * d + j] / wsum[c];
+                    new_centers[c * d + j] = csum[c * d + j] / cw[c];
                 }
             }
         }
-        let shift: Vec<f64> = (0..k)
+        shift = (0..k)
             .map(|c| {
                 sqeuclidean(
                     &centers[c * d..(c + 1) * d],
@@ -590,33 +822,9 @@ fn run_one(
                 .sqrt()
             })
             .collect();
-        if dense {
-            // Largest and second-largest shift, so each point subtracts the largest shift of
-            // a centre other than its own.
-            let (mut m1, mut m2, mut a1) = (0.0f64, 0.0f64, usize::MAX);
-            for (c, &s) in shift.iter().enumerate() {
-                if s > m1 {
-                    m2 = m1;
-                    m1 = s;
-                    a1 = c;
-                } else if s > m2 {
-                    m2 = s;
-                }
-            }
-            upper
-                .par_iter_mut()
-                .zip(lower.par_iter_mut())
-                .zip(labels.par_iter())
-                .with_min_len(CHUNK)
-                .for_each(|((u, l), &lab)| {
-                    let lab = lab as usize;
-                    *u += shift[lab];
-                    *l -= if lab == a1 { m2 } else { m1 };
-                });
-        }
         centers = new_centers;
         it += 1;
-        if labels == labels_old {
+        if it > 1 && pass.changed == 0 {
             strict = true;
             break;
         }
@@ -624,15 +832,20 @@ fn run_one(
         if tot <= tol {
             break;
         }
-        labels_old.copy_from_slice(&labels);
     }
     if !strict {
-        assign(
+        let sh = dense.then(|| Shift::new(&shift));
+        assign_pass(
+            p,
+            w,
             &centers,
+            k,
+            &x_sq,
             &mut labels,
             &mut upper,
             &mut lower,
-            dense && it > 0,
+            sh.as_ref(),
+            false,
         );
     }
     let inertia = inertia_of(p, w, &centers, &labels, &x_sq);
@@ -682,7 +895,11 @@ pub fn fit(
         ));
     }
     let w = check_weights(weights, p.n())?;
-    let tol = params.tol * p.mean_variance();
+    let tol = if params.tol > 0.0 {
+        params.tol * p.mean_variance()
+    } else {
+        0.0
+    };
     let d = p.d();
     let runs = match &params.init {
         Init::Given(c) => {
