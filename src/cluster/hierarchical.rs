@@ -56,7 +56,7 @@
 use rayon::prelude::*;
 
 use crate::control::Control;
-use crate::distance::{check_condensed, sqeuclidean};
+use crate::distance::{check_condensed, sqeuclidean, sqeuclidean_many};
 use crate::error::{TmError, TmResult};
 
 /// A linkage method.
@@ -226,30 +226,80 @@ fn better(p: (f64, usize), q: (f64, usize)) -> (f64, usize) {
     }
 }
 
-/// `sqeuclidean(a, b)`, bit for bit, unless it is certain that `sqeuclidean(a, b) > lim`
-/// (then `None`). The partial sums grow monotonically in floating point (non-negative terms
-/// in the same accumulators), so the early exit never drops a candidate that could tie.
-#[inline]
-fn sqeuclidean_below(a: &[f64], b: &[f64], lim: f64) -> Option<f64> {
-    let mut acc = [0.0f64; 4];
-    let n4 = a.len() / 4 * 4;
-    let (a4, ar) = a.split_at(n4);
-    let (b4, br) = b.split_at(n4);
-    for (x, y) in a4.chunks_exact(4).zip(b4.chunks_exact(4)) {
-        for l in 0..4 {
-            let t = x[l] - y[l];
-            acc[l] += t * t;
+/// One nearest-neighbour search of the chain: the active cluster closest to the chain's top
+/// (at dense position `pt`) by Ward's distance, among dense positions `lo..hi`.
+struct WardScan<'a> {
+    ct: &'a [f64],
+    cen: &'a [f64],
+    d: usize,
+    wt: &'a [f64],
+    iw: &'a [f64],
+    slot: &'a [usize],
+    wtop: f64,
+    iwt: f64,
+    pt: usize,
+    v_prev: f64,
+}
+
+impl WardScan<'_> {
+    /// `(distance^2, slot)` of the nearest; compiled for AVX2 when the CPU has it (the
+    /// arithmetic is the same either way).
+    fn run(&self, lo: usize, hi: usize) -> (f64, usize) {
+        #[cfg(target_arch = "x86_64")]
+        if std::arch::is_x86_feature_detected!("avx2") {
+            // SAFETY: the CPU supports AVX2, checked just above.
+            return unsafe { self.run_avx2(lo, hi) };
         }
-        if (acc[0] + acc[1]) + (acc[2] + acc[3]) > lim {
-            return None;
+        self.run_body(lo, hi)
+    }
+
+    #[cfg(target_arch = "x86_64")]
+    #[target_feature(enable = "avx2")]
+    fn run_avx2(&self, lo: usize, hi: usize) -> (f64, usize) {
+        self.run_body(lo, hi)
+    }
+
+    #[inline(always)]
+    fn run_body(&self, lo: usize, hi: usize) -> (f64, usize) {
+        let d = self.d;
+        let mut best = (f64::INFINITY, usize::MAX);
+        // Ward distance > bound  <=>  ||c_t - c_p||^2 > bound (1/n_t + 1/n_p) / 2; the test
+        // is widened by a relative 1e-12 so that rounding never drops a candidate. The bound
+        // starts at the chain's previous element (top was pushed as its nearest neighbour).
+        let mut half = self.v_prev * (0.5 + 1e-12);
+        // Called only for candidates within the bound (few): the test is inlined below.
+        let consider = |p: usize, dd: f64, best: &mut (f64, usize), half: &mut f64| {
+            if p == self.pt {
+                return;
+            }
+            let w = self.wt[p];
+            let v = 2.0 * self.wtop * w / (self.wtop + w) * dd;
+            if v < best.0 || (v == best.0 && self.slot[p] < best.1) {
+                *best = (v, self.slot[p]);
+                *half = half.min(v * (0.5 + 1e-12));
+            }
+        };
+        // Four candidates at a time: independent sums, all of the vector (no early exit,
+        // whose branches cost more than the few values they would skip).
+        let mut dd4 = [0.0f64; 4];
+        let mut p = lo;
+        while p + 4 <= hi {
+            sqeuclidean_many(self.ct, &self.cen[p * d..(p + 4) * d], &mut dd4);
+            for (q, &dd) in dd4.iter().enumerate() {
+                if dd <= half * (self.iwt + self.iw[p + q]) {
+                    consider(p + q, dd, &mut best, &mut half);
+                }
+            }
+            p += 4;
         }
+        for p in p..hi {
+            let dd = sqeuclidean(self.ct, &self.cen[p * d..(p + 1) * d]);
+            if dd <= half * (self.iwt + self.iw[p]) {
+                consider(p, dd, &mut best, &mut half);
+            }
+        }
+        best
     }
-    let mut s = (acc[0] + acc[1]) + (acc[2] + acc[3]);
-    for (x, y) in ar.iter().zip(br) {
-        let t = x - y;
-        s += t * t;
-    }
-    Some(s)
 }
 
 /// Ward linkage from vectors with the nearest-neighbour chain (see the module documentation).
@@ -288,25 +338,19 @@ fn ward_nn_chain(x: &[f64], n: usize, d: usize, ctl: &Control) -> TmResult<Vec<f
         let v_prev = prev.map_or(f64::INFINITY, |pv| ward(pos[pv]));
         let iwt = 1.0 / wtop;
         let scan = |lo: usize, hi: usize| -> (f64, usize) {
-            let mut best = (f64::INFINITY, usize::MAX);
-            // Ward distance > bound  <=>  ||c_t - c_p||^2 > bound (1/n_t + 1/n_p) / 2; the
-            // test is widened by a relative 1e-12 so that rounding never drops a candidate.
-            let mut half = v_prev * (0.5 + 1e-12);
-            for p in lo..hi {
-                if p == pt {
-                    continue;
-                }
-                let lim = half * (iwt + iw[p]);
-                if let Some(dd) = sqeuclidean_below(ct, &cen[p * d..(p + 1) * d], lim) {
-                    let w = wt[p];
-                    let v = 2.0 * wtop * w / (wtop + w) * dd;
-                    if v < best.0 || (v == best.0 && slot[p] < best.1) {
-                        best = (v, slot[p]);
-                        half = half.min(v * (0.5 + 1e-12));
-                    }
-                }
-            }
-            best
+            let q = WardScan {
+                ct,
+                cen: &cen,
+                d,
+                wt: &wt,
+                iw: &iw,
+                slot: &slot,
+                wtop,
+                iwt,
+                pt,
+                v_prev,
+            };
+            q.run(lo, hi)
         };
         let mut best = if m < PAR_MIN {
             scan(0, m)

@@ -1,7 +1,7 @@
 //! One helper for running kernels from Python: release the GIL, stop on Ctrl-C, report
 //! progress, and turn a panic into a `tracemill.exceptions.InternalError`.
 //!
-//! The kernel runs on a scoped worker thread with the GIL released. The calling thread waits on a
+//! The kernel runs on a rayon worker (handed over by a scoped thread) with the GIL released. The calling thread waits on a
 //! channel for the result (so short kernels return at once); every 100 ms it re-attaches to the interpreter, checks for signals
 //! (Ctrl-C cancels the kernel through its [`Control`]) and calls the progress callback, if any,
 //! with `(done, total)`. Rayon workers never call Python.
@@ -28,16 +28,20 @@ where
             let (tx, rx) = std::sync::mpsc::channel::<TmResult<T>>();
             let ctl_ref = &ctl;
             s.spawn(move || {
-                let res = catch_unwind(AssertUnwindSafe(|| f(ctl_ref))).unwrap_or_else(|p| {
-                    let what = p
-                        .downcast_ref::<&str>()
-                        .map(|s| (*s).to_string())
-                        .or_else(|| p.downcast_ref::<String>().cloned())
-                        .unwrap_or_else(|| "unknown panic".into());
-                    Err(TmError::Internal {
-                        message: format!("internal error: {what}"),
-                    })
-                });
+                // The kernel itself runs on a rayon worker, so that its serial parts and its
+                // parallel loops share the pool's threads instead of competing with them (on
+                // two cores an outside thread left the idle workers spinning against it).
+                let res = catch_unwind(AssertUnwindSafe(|| rayon::scope(|_| f(ctl_ref))))
+                    .unwrap_or_else(|p| {
+                        let what = p
+                            .downcast_ref::<&str>()
+                            .map(|s| (*s).to_string())
+                            .or_else(|| p.downcast_ref::<String>().cloned())
+                            .unwrap_or_else(|| "unknown panic".into());
+                        Err(TmError::Internal {
+                            message: format!("internal error: {what}"),
+                        })
+                    });
                 // The receiver outlives this scoped thread, so the send cannot fail.
                 let _ = tx.send(res);
             });
