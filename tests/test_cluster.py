@@ -526,6 +526,28 @@ def test_bad_input_errors():
         silhouette_score(X6, [0] * 6)
 
 
+@pytest.mark.parametrize("fit", [
+    lambda D: KMedoids(2, metric="precomputed").fit(D),
+    lambda D: DBSCAN(metric="precomputed").fit(D),
+    lambda D: Agglomerative(2, metric="precomputed", linkage="average").fit(D),
+    lambda D: silhouette_score(D, np.arange(len(D)) % 2, metric="precomputed"),
+], ids=["kmedoids", "dbscan", "agglomerative", "silhouette"])
+def test_bad_precomputed_matrix_names_the_cell(fit):
+    # 150 points: the cells below lie in different 64 x 64 tiles of the check.
+    X = np.random.default_rng(4).normal(size=(150, 3))
+    good = squareform(pdist(X))
+    cases = [((3, 140), 9.0, r"not symmetric: \[3, 140\]"),
+             ((120, 7), -1.0, r"row 120, column 7 is negative"),
+             ((70, 71), np.nan, r"row 70, column 71 is not finite"),
+             ((99, 99), 0.5, r"diagonal at row 99")]
+    for (i, j), v, msg in cases:
+        D = good.copy()
+        D[i, j] = v
+        with pytest.raises(tm.DataError, match=msg):
+            fit(D)
+    fit(good)  # and the good matrix passes
+
+
 def test_progress_and_interrupt_hooks():
     seen = []
     X = np.random.default_rng(0).random((3000, 3))

@@ -152,8 +152,9 @@ def _is_log(X: Any) -> bool:
     return isinstance(X, EventLog)
 
 
-def _square(X: Any) -> tuple[np.ndarray, int]:
-    """A precomputed square matrix (checked: square, finite, >= 0, symmetric)."""
+def _square(X: Any, *, check: bool = True) -> tuple[np.ndarray, int]:
+    """A precomputed square matrix (checked: square, finite, >= 0, symmetric; with
+    ``check=False`` only its shape, for kernels that check the values themselves)."""
     m = np.asarray(X, dtype=np.float64)
     if m.ndim != 2 or m.shape[0] != m.shape[1]:
         raise DataError(f"a precomputed distance matrix must be square; got shape {m.shape}")
@@ -161,7 +162,8 @@ def _square(X: Any) -> tuple[np.ndarray, int]:
     if n == 0:
         raise DataError("the precomputed distance matrix is empty")
     flat = np.ascontiguousarray(m).reshape(-1)
-    _core.check_square(flat, n)
+    if check:
+        _core.check_square(flat, n)
     return flat, n
 
 
@@ -446,7 +448,8 @@ def _distance_input(X: Any, metric: str, *, substitution_cost: Any, normalised: 
         raise _param("X", "an EventLog input needs metric='levenshtein'; encode the log with "
                      "tracemill.encode for vector metrics")
     if metric == "precomputed":
-        flat, n = _square(X)
+        # Its consumers (k-medoids, DBSCAN) check the values in the core.
+        flat, n = _square(X, check=False)
         return flat, n, 0, None, None
     if metric not in _VECTOR_METRICS:
         raise _param("metric", f"metric must be one of {list(_VECTOR_METRICS)}, 'precomputed' "

@@ -121,12 +121,15 @@ fn removal_loss(data: &[Rec], w: &[f64], k: usize) -> Vec<f64> {
 fn best_swap(mat: &Mat<'_>, rl: &[f64], data: &[Rec], w: &[f64], j: usize) -> (f64, usize) {
     let n = mat.n;
     let k = rl.len();
+    // Row `j` rather than column `j`: the matrix is symmetric (checked), and a row is read
+    // a cache line at a time where a column costs one line per value.
+    let row = &mat.m[j * n..(j + 1) * n];
     let part = |lo: usize, hi: usize| {
         let mut ploss = vec![0.0; k];
         let mut acc = 0.0;
         for o in lo..hi {
             let rec = &data[o];
-            let doj = mat.get(o, j);
+            let doj = row[o];
             if doj < rec.near.1 {
                 acc += w[o] * (doj - rec.near.1);
                 ploss[rec.near.0] += w[o] * (rec.near.1 - rec.seco.1);

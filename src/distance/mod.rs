@@ -333,38 +333,66 @@ pub fn check_square(m: &[f64], n: usize) -> TmResult<()> {
             ),
         ));
     }
-    (0..n).into_par_iter().try_for_each(|i| {
-        for j in 0..n {
-            let v = m[i * n + j];
-            if !v.is_finite() {
+    // A cell's own fault (not finite, negative) is named before any asymmetry it causes.
+    let bad_value = |i: usize, j: usize, v: f64| -> Option<TmError> {
+        if !v.is_finite() {
+            Some(TmError::data(format!(
+                "the precomputed distance at row {i}, column {j} is not finite ({v})"
+            )))
+        } else if v < 0.0 {
+            Some(TmError::data(format!(
+                "the precomputed distance at row {i}, column {j} is negative ({v}); \
+                 distances must be >= 0"
+            )))
+        } else {
+            None
+        }
+    };
+    // Row blocks in parallel, the first failing block reported; the symmetry test compares
+    // tile (I, J) with tile (J, I), so both are read a cache line at a time instead of one
+    // column value per line.
+    const TILE: usize = 64;
+    let check_block = |bi: usize| -> TmResult<()> {
+        let rows = bi * TILE..((bi + 1) * TILE).min(n);
+        for i in rows.clone() {
+            let row = &m[i * n..(i + 1) * n];
+            if let Some(j) = row.iter().position(|v| !v.is_finite() || *v < 0.0) {
+                return Err(
+                    bad_value(i, j, row[j]).unwrap_or_else(|| TmError::Internal {
+                        message: "internal error: a bad distance passed its check".into(),
+                    }),
+                );
+            }
+            if row[i] != 0.0 {
                 return Err(TmError::data(format!(
-                    "the precomputed distance at row {i}, column {j} is not finite ({v})"
+                    "the precomputed distance matrix has {} on the diagonal at row {i}; a \
+                     point is at distance 0 from itself",
+                    row[i]
                 )));
             }
-            if v < 0.0 {
-                return Err(TmError::data(format!(
-                    "the precomputed distance at row {i}, column {j} is negative ({v}); \
-                     distances must be >= 0"
-                )));
-            }
-            if i == j && v != 0.0 {
-                return Err(TmError::data(format!(
-                    "the precomputed distance matrix has {v} on the diagonal at row {i}; a \
-                     point is at distance 0 from itself"
-                )));
-            }
-            if j > i {
-                let w = m[j * n + i];
-                if (v - w).abs() > 1e-9 * v.abs().max(w.abs()).max(1e-300) {
-                    return Err(TmError::data(format!(
-                        "the precomputed distance matrix is not symmetric: [{i}, {j}] = {v} \
-                         but [{j}, {i}] = {w}"
-                    )));
+        }
+        for bj in bi..n.div_ceil(TILE) {
+            for i in rows.clone() {
+                for j in (bj * TILE).max(i + 1)..((bj + 1) * TILE).min(n) {
+                    let (v, w) = (m[i * n + j], m[j * n + i]);
+                    if (v - w).abs() > 1e-9 * v.abs().max(w.abs()).max(1e-300) {
+                        return Err(bad_value(j, i, w).unwrap_or_else(|| {
+                            TmError::data(format!(
+                                "the precomputed distance matrix is not symmetric: [{i}, {j}] \
+                                 = {v} but [{j}, {i}] = {w}"
+                            ))
+                        }));
+                    }
                 }
             }
         }
         Ok(())
-    })
+    };
+    (0..n.div_ceil(TILE))
+        .into_par_iter()
+        .map(check_block)
+        .find_first(Result::is_err)
+        .unwrap_or(Ok(()))
 }
 
 /// Check a condensed vector: length matches `n`, values finite and non-negative.
