@@ -152,3 +152,32 @@ def test_bad_parameters_and_not_fitted(log):
     with warnings.catch_warnings():
         warnings.simplefilter("error")
         ActivityProfile().fit_transform(log)
+
+
+def test_profile_union_equals_scipy_hstack(log):
+    # scipy.sparse.hstack of the weighted parts, one of them dense.
+    parts = [("a", ActivityProfile(), 1.0), ("t", TransitionProfile(), 2.5),
+             ("p", PerformanceProfile(), 0.5), ("g", NgramProfile(3, n_min=2), 1.0)]
+    u = ProfileUnion(parts).fit(log)
+    x = u.transform(log)
+    ref = sp.hstack([sp.csr_matrix(p.transform(log)) * w for _n, p, w in parts], format="csr")
+    assert x.shape == ref.shape == (log.n_cases, len(u.feature_names_))
+    assert (x != ref).nnz == 0
+    np.testing.assert_array_equal(x.indptr, ref.indptr)
+    dense = ProfileUnion(parts, sparse=False).fit_transform(log)
+    np.testing.assert_array_equal(dense, ref.toarray())
+
+
+def test_profile_union_refuses_a_part_with_other_rows(log):
+    class Short:
+        feature_names_ = ("x",)
+
+        def fit(self, log, y=None):
+            return self
+
+        def transform(self, log):
+            return np.ones((3, 1))
+
+    u = ProfileUnion([("a", ActivityProfile()), ("s", Short())]).fit(log)
+    with pytest.raises(tm.ParameterError, match=r"part 1 .* 400 rows"):
+        u.transform(log)

@@ -333,6 +333,15 @@ def edit_condensed(
     progress: Callable[[int, int], Any] | None = None,
 ) -> npt.NDArray[np.float64]: ...
 def check_square(m: npt.NDArray[np.float64], n: int) -> None: ...
+def csr_hstack(
+    indptrs: list[npt.NDArray[np.int64]],
+    indices: list[npt.NDArray[np.int32]],
+    data: list[npt.NDArray[np.float64]],
+    n_cols: list[int],
+    weights: list[float],
+    n_rows: int,
+) -> tuple[npt.NDArray[np.int32] | npt.NDArray[np.int64], npt.NDArray[np.int32],
+           npt.NDArray[np.float64], int]: ...
 def kmeans_fit(
     x: npt.NDArray[np.float64] | None,
     indptr: npt.NDArray[np.int64] | None,

@@ -524,12 +524,18 @@ class ProfileUnion(_Base):
         import scipy.sparse as sp
 
         self._check_fitted()
-        mats = []
+        mats, weights = [], []
         for _name, prof, w in self._parts():
             x = prof.transform(log)
-            x = sp.csr_matrix(x) if not sp.issparse(x) else x
-            mats.append(x * w if w != 1.0 else x)
-        out = sp.hstack(mats, format="csr")
+            mats.append(sp.csr_matrix(x))
+            weights.append(w)
+        # Stacked natively, in parallel (scipy's hstack is single-threaded).
+        indptr, indices, data, n_cols = _core.csr_hstack(
+            [np.asarray(x.indptr, dtype=np.int64) for x in mats],
+            [np.asarray(x.indices, dtype=np.int32) for x in mats],
+            [np.asarray(x.data, dtype=np.float64) for x in mats],
+            [x.shape[1] for x in mats], weights, log.n_cases)
+        out = _csr(indptr, indices, data, (log.n_cases, n_cols))
         return out if self.sparse else out.toarray()
 
 

@@ -84,23 +84,34 @@ impl Csr {
         out
     }
 
-    /// Stitch row blocks (each `(row lengths, indices, data)`) in order.
+    /// Stitch row blocks (each `(row lengths, indices, data)`) in order; the blocks are
+    /// copied into place in parallel.
     fn from_blocks(blocks: Vec<(Vec<u32>, Vec<i32>, Vec<f64>)>, n_cols: usize) -> Csr {
         let n_rows: usize = blocks.iter().map(|b| b.0.len()).sum();
         let nnz: usize = blocks.iter().map(|b| b.1.len()).sum();
         let mut indptr = Vec::with_capacity(n_rows + 1);
-        let mut indices = Vec::with_capacity(nnz);
-        let mut data = Vec::with_capacity(nnz);
         let mut acc = 0i64;
         indptr.push(0);
-        for (lens, idx, val) in blocks {
-            for l in lens {
+        for (lens, _, _) in &blocks {
+            for &l in lens {
                 acc += i64::from(l);
                 indptr.push(acc);
             }
-            indices.extend_from_slice(&idx);
-            data.extend_from_slice(&val);
         }
+        let mut indices = vec![0i32; nnz];
+        let mut data = vec![0.0f64; nnz];
+        let mut jobs = Vec::with_capacity(blocks.len());
+        let (mut ri, mut rd) = (&mut indices[..], &mut data[..]);
+        for blk in &blocks {
+            let (hi, ti) = ri.split_at_mut(blk.1.len());
+            let (hd, td) = rd.split_at_mut(blk.2.len());
+            jobs.push((hi, hd, blk));
+            (ri, rd) = (ti, td);
+        }
+        jobs.into_par_iter().for_each(|(oi, od, blk)| {
+            oi.copy_from_slice(&blk.1);
+            od.copy_from_slice(&blk.2);
+        });
         Csr {
             n_rows,
             n_cols,
@@ -109,6 +120,104 @@ impl Csr {
             data,
         }
     }
+}
+
+/// A borrowed CSR matrix, an operand of [`hstack`].
+#[derive(Debug, Clone, Copy)]
+pub struct CsrView<'a> {
+    /// Row offsets (`n_rows + 1`).
+    pub indptr: &'a [i64],
+    /// Column indices.
+    pub indices: &'a [i32],
+    /// Values.
+    pub data: &'a [f64],
+    /// Number of columns.
+    pub n_cols: usize,
+}
+
+/// The columns of `parts` side by side (`scipy.sparse.hstack`), the values of part `p`
+/// multiplied by `weights[p]`. Every part has `n_rows` rows; rows are copied in parallel
+/// chunks. Errors name the part whose arrays are inconsistent.
+pub fn hstack(parts: &[CsrView<'_>], weights: &[f64], n_rows: usize) -> TmResult<Csr> {
+    if weights.len() != parts.len() {
+        return Err(TmError::param(
+            "weights",
+            format!("{} weights for {} parts", weights.len(), parts.len()),
+        ));
+    }
+    for (q, p) in parts.iter().enumerate() {
+        let ok = p.indptr.len() == n_rows + 1
+            && p.indptr[0] == 0
+            && p.indptr.windows(2).all(|w| w[0] <= w[1])
+            && p.indptr[n_rows] as usize == p.indices.len()
+            && p.indices.len() == p.data.len();
+        if !ok {
+            return Err(TmError::param(
+                "profiles",
+                format!(
+                    "part {q} is not a consistent CSR matrix with {n_rows} rows (indptr, \
+                     indices and data disagree)"
+                ),
+            ));
+        }
+        if let Some(&c) = p
+            .indices
+            .par_iter()
+            .find_any(|&&c| c < 0 || c as usize >= p.n_cols)
+        {
+            return Err(TmError::param(
+                "profiles",
+                format!("part {q} has column index {c} outside 0..{}", p.n_cols),
+            ));
+        }
+    }
+    let mut offset = Vec::with_capacity(parts.len());
+    let mut n_cols = 0usize;
+    for p in parts {
+        offset.push(i32::try_from(n_cols).map_err(|_| TmError::Limit {
+            message: "the stacked matrix would have more than 2^31 columns".into(),
+        })?);
+        n_cols += p.n_cols;
+    }
+    let mut indptr = vec![0i64; n_rows + 1];
+    indptr[1..]
+        .par_iter_mut()
+        .with_min_len(CHUNK)
+        .enumerate()
+        .for_each(|(r, v)| *v = parts.iter().map(|p| p.indptr[r + 1]).sum());
+    let nnz = indptr[n_rows] as usize;
+    let mut indices = vec![0i32; nnz];
+    let mut data = vec![0.0f64; nnz];
+    let mut jobs = Vec::with_capacity(n_rows.div_ceil(CHUNK));
+    let (mut ri, mut rd) = (&mut indices[..], &mut data[..]);
+    for s in (0..n_rows).step_by(CHUNK) {
+        let e = (s + CHUNK).min(n_rows);
+        let len = (indptr[e] - indptr[s]) as usize;
+        let (hi, ti) = ri.split_at_mut(len);
+        let (hd, td) = rd.split_at_mut(len);
+        jobs.push((s, e, hi, hd));
+        (ri, rd) = (ti, td);
+    }
+    jobs.into_par_iter().for_each(|(s, e, oi, od)| {
+        let mut q = 0;
+        for r in s..e {
+            for ((p, &off), &w) in parts.iter().zip(&offset).zip(weights) {
+                let (a, b) = (p.indptr[r] as usize, p.indptr[r + 1] as usize);
+                for t in a..b {
+                    oi[q] = p.indices[t] + off;
+                    od[q] = if w == 1.0 { p.data[t] } else { p.data[t] * w };
+                    q += 1;
+                }
+            }
+        }
+    });
+    Ok(Csr {
+        n_rows,
+        n_cols,
+        indptr,
+        indices,
+        data,
+    })
 }
 
 pub(crate) use crate::hash::FxMap;
@@ -672,6 +781,61 @@ pub fn performance_profile(
 mod tests {
     use super::*;
     use crate::log::tests::log_from;
+
+    #[test]
+    fn hstack_puts_columns_side_by_side_across_chunks() {
+        // Two random sparse parts over more rows than one chunk, stacked, equal the dense
+        // matrices placed side by side (the second one weighted).
+        let n = CHUNK * 2 + 17;
+        let make = |seed: usize, cols: usize| {
+            let mut dense = vec![0.0; n * cols];
+            for (i, v) in dense.iter_mut().enumerate() {
+                if (i * 2_654_435_761 + seed) % 7 == 0 {
+                    *v = (i % 13) as f64 + 1.0;
+                }
+            }
+            let (mut indptr, mut indices, mut data) = (vec![0i64], Vec::new(), Vec::new());
+            for r in 0..n {
+                for c in 0..cols {
+                    let v = dense[r * cols + c];
+                    if v != 0.0 {
+                        indices.push(c as i32);
+                        data.push(v);
+                    }
+                }
+                indptr.push(indices.len() as i64);
+            }
+            (dense, indptr, indices, data)
+        };
+        let (da, pa, ia, xa) = make(1, 5);
+        let (db, pb, ib, xb) = make(3, 3);
+        fn view<'a>(p: &'a [i64], i: &'a [i32], x: &'a [f64], c: usize) -> CsrView<'a> {
+            CsrView {
+                indptr: p,
+                indices: i,
+                data: x,
+                n_cols: c,
+            }
+        }
+        let parts = [view(&pa, &ia, &xa, 5), view(&pb, &ib, &xb, 3)];
+        let out = hstack(&parts, &[1.0, 2.0], n).unwrap();
+        assert_eq!(out.n_cols, 8);
+        let got = out.to_dense();
+        for r in 0..n {
+            for c in 0..5 {
+                assert_eq!(got[r * 8 + c], da[r * 5 + c]);
+            }
+            for c in 0..3 {
+                assert_eq!(got[r * 8 + 5 + c], 2.0 * db[r * 3 + c]);
+            }
+        }
+        // A part with the wrong number of rows or a column out of range is refused.
+        let short = [view(&pa[..n], &ia, &xa, 5)];
+        assert!(hstack(&short, &[1.0], n).is_err());
+        let narrow = [view(&pa, &ia, &xa, 4)];
+        let e = hstack(&narrow, &[1.0], n).unwrap_err().to_string();
+        assert!(e.contains("column index 4 outside 0..4"), "{e}");
+    }
 
     fn toy() -> EventLog {
         // Toy log T of the reference notes (abcdf, acbdf, xyzz).

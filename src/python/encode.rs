@@ -5,6 +5,7 @@
 use numpy::{IntoPyArray, PyArray1, PyReadonlyArray1};
 use pyo3::prelude::*;
 use pyo3::types::PyTuple;
+use rayon::prelude::*;
 
 use super::errors::to_py;
 use super::log::PyLog;
@@ -119,25 +120,74 @@ pub fn ngram_transform<'py>(
     let (csr, unseen) = run(py, progress, |ctl| {
         encode::ngram_transform(l, m, n_ref, &vocab, &opts, ctl)
     })?;
-    let indptr = if csr.indices.len() < i32::MAX as usize {
-        csr.indptr
-            .iter()
-            .map(|&v| v as i32)
-            .collect::<Vec<i32>>()
-            .into_pyarray(py)
-            .into_any()
-    } else {
-        csr.indptr.into_pyarray(py).into_any()
-    };
+    let (indptr, indices, data, n_cols) = csr_arrays(py, csr);
     PyTuple::new(
         py,
         [
             indptr,
-            csr.indices.into_pyarray(py).into_any(),
-            csr.data.into_pyarray(py).into_any(),
-            csr.n_cols.into_pyobject(py)?.into_any(),
+            indices,
+            data,
+            n_cols.into_pyobject(py)?.into_any(),
             unseen.into_pyobject(py)?.into_any(),
         ],
+    )
+}
+
+/// A CSR matrix as numpy arrays `(indptr, indices, data, n_cols)`; `indptr` is int32 when the
+/// values allow, so that scipy keeps both index arrays as they are instead of copying one.
+fn csr_arrays(
+    py: Python<'_>,
+    csr: encode::Csr,
+) -> (Bound<'_, PyAny>, Bound<'_, PyAny>, Bound<'_, PyAny>, usize) {
+    let indptr = if csr.indices.len() < i32::MAX as usize {
+        let small: Vec<i32> = csr.indptr.par_iter().map(|&v| v as i32).collect();
+        small.into_pyarray(py).into_any()
+    } else {
+        csr.indptr.into_pyarray(py).into_any()
+    };
+    (
+        indptr,
+        csr.indices.into_pyarray(py).into_any(),
+        csr.data.into_pyarray(py).into_any(),
+        csr.n_cols,
+    )
+}
+
+/// Stack CSR parts side by side (see `encode::hstack`); returns `(indptr, indices, data,
+/// n_cols)`.
+#[pyfunction]
+pub fn csr_hstack<'py>(
+    py: Python<'py>,
+    indptrs: Vec<PyReadonlyArray1<'py, i64>>,
+    indices: Vec<PyReadonlyArray1<'py, i32>>,
+    data: Vec<PyReadonlyArray1<'py, f64>>,
+    n_cols: Vec<usize>,
+    weights: Vec<f64>,
+    n_rows: usize,
+) -> PyResult<Bound<'py, PyTuple>> {
+    if indices.len() != indptrs.len()
+        || data.len() != indptrs.len()
+        || n_cols.len() != indptrs.len()
+    {
+        return Err(to_py(TmError::param(
+            "profiles",
+            "internal conversion: one indptr, indices, data and width per part",
+        )));
+    }
+    let mut parts = Vec::with_capacity(indptrs.len());
+    for (((p, i), d), &c) in indptrs.iter().zip(&indices).zip(&data).zip(&n_cols) {
+        parts.push(encode::CsrView {
+            indptr: slice(p, "indptr")?,
+            indices: slice(i, "indices")?,
+            data: slice(d, "data")?,
+            n_cols: c,
+        });
+    }
+    let csr = run(py, None, |_| encode::hstack(&parts, &weights, n_rows))?;
+    let (indptr, indices, data, n_cols) = csr_arrays(py, csr);
+    PyTuple::new(
+        py,
+        [indptr, indices, data, n_cols.into_pyobject(py)?.into_any()],
     )
 }
 

@@ -77,6 +77,7 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
         wrap_pyfunction!(encode::squareform, m)?,
         wrap_pyfunction!(encode::edit_condensed, m)?,
         wrap_pyfunction!(encode::check_square, m)?,
+        wrap_pyfunction!(encode::csr_hstack, m)?,
         wrap_pyfunction!(cluster::kmeans_fit, m)?,
         wrap_pyfunction!(cluster::kmeans_predict, m)?,
         wrap_pyfunction!(cluster::fasterpam, m)?,
