@@ -17,12 +17,15 @@
 //! **Neighbourhoods.** For Euclidean vectors we build a k-d tree (Bentley 1975, CACM 18(9);
 //! median splits on the widest dimension, with incremental distance bounds to prune far
 //! cells) and query all points in parallel; only core points keep their neighbour lists.
+//! The tree keeps a copy of the points in its own order, so a leaf is one contiguous block
+//! scanned four points at a time, and queries run in that order too (neighbouring queries
+//! walk the same cells while they are in cache).
 //! Other metrics scan all points in parallel; a precomputed square matrix is read row by row.
 
 use rayon::prelude::*;
 
 use crate::control::Control;
-use crate::distance::{check_features, check_square, sqeuclidean, Metric};
+use crate::distance::{check_features, check_square, sqeuclidean_many, Metric};
 use crate::error::{TmError, TmResult};
 
 /// DBSCAN result.
@@ -40,6 +43,9 @@ struct KdTree<'a> {
     d: usize,
     idx: Vec<u32>,
     nodes: Vec<Node>,
+    /// The points in tree order (row `p` is point `idx[p]`), so that a leaf is one contiguous
+    /// block.
+    xp: Vec<f64>,
 }
 
 #[derive(Clone, Copy)]
@@ -62,8 +68,15 @@ impl<'a> KdTree<'a> {
             d,
             idx: (0..n as u32).collect(),
             nodes: Vec::new(),
+            xp: Vec::new(),
         };
         t.build(0, n);
+        t.xp = t
+            .idx
+            .iter()
+            .flat_map(|&i| &x[i as usize * d..(i as usize + 1) * d])
+            .copied()
+            .collect();
         t
     }
 
@@ -118,9 +131,13 @@ impl<'a> KdTree<'a> {
         let nd = self.nodes[node as usize];
         if nd.left == NONE {
             let d = self.d;
-            for &i in &self.idx[nd.start as usize..nd.end as usize] {
-                if sqeuclidean(q, &self.x[i as usize * d..(i as usize + 1) * d]) <= eps2 {
-                    out.push(i);
+            let (a, b) = (nd.start as usize, nd.end as usize);
+            let mut dist = [0.0f64; LEAF];
+            let dist = &mut dist[..b - a];
+            sqeuclidean_many(q, &self.xp[a * d..b * d], dist);
+            for (p, &dd) in (a..b).zip(dist.iter()) {
+                if dd <= eps2 {
+                    out.push(self.idx[p]);
                 }
             }
             return;
@@ -222,7 +239,7 @@ pub fn dbscan(
     };
     let chunk = 1024;
     // Neighbour lists of core points only (others: None).
-    let lists: Vec<TmResult<Vec<(bool, Option<Vec<u32>>)>>> = (0..n.div_ceil(chunk))
+    let lists: Vec<TmResult<Vec<(u32, bool, Option<Vec<u32>>)>>> = (0..n.div_ceil(chunk))
         .into_par_iter()
         .map(|ci| {
             ctl.check()?;
@@ -235,14 +252,17 @@ pub fn dbscan(
                     _ => 0,
                 }
             ];
-            for i in ci * chunk..((ci + 1) * chunk).min(n) {
+            for pos in ci * chunk..((ci + 1) * chunk).min(n) {
+                // With a tree, queries go in tree order: neighbouring queries then walk the
+                // same nodes and leaves, which stay in cache.
+                let i = tree.as_ref().map_or(pos, |t| t.idx[pos] as usize);
                 buf.clear();
                 match input {
                     DbscanInput::Vectors { x, d, metric, .. } => {
-                        let q = &x[i * d..(i + 1) * d];
                         if let Some(t) = &tree {
-                            t.radius(q, eps * eps, &mut buf, &mut off);
+                            t.radius(&t.xp[pos * d..(pos + 1) * d], eps * eps, &mut buf, &mut off);
                         } else {
+                            let q = &x[i * d..(i + 1) * d];
                             for j in 0..n {
                                 if metric.dist(q, &x[j * d..(j + 1) * d]) <= eps {
                                     buf.push(j as u32);
@@ -263,18 +283,18 @@ pub fn dbscan(
                     None => buf.len() as f64,
                 };
                 let core = count >= min_samples;
-                res.push((core, core.then(|| buf.clone())));
+                res.push((i as u32, core, core.then(|| buf.clone())));
             }
             ctl.advance(res.len() as u64);
             Ok(res)
         })
         .collect();
-    let mut core = Vec::with_capacity(n);
-    let mut nb: Vec<Option<Vec<u32>>> = Vec::with_capacity(n);
+    let mut core = vec![false; n];
+    let mut nb: Vec<Option<Vec<u32>>> = vec![None; n];
     for part in lists {
-        for (c, l) in part? {
-            core.push(c);
-            nb.push(l);
+        for (i, c, l) in part? {
+            core[i as usize] = c;
+            nb[i as usize] = l;
         }
     }
     // Grow clusters in input order, depth-first, as scikit-learn's dbscan_inner does.
