@@ -566,3 +566,23 @@ def test_clone_and_pickle():
     agg = clone(Agglomerative(4, linkage="average"))
     assert agg.get_params()["linkage"] == "average"
     assert "KMeans(n_clusters=3" in repr(km)
+
+
+def test_describe_shows_shares_for_counts_and_means_for_scaled_numbers():
+    # A count feature some cases lack is described by the share of cases having it; a scaled
+    # number (negative values, every case has one) by its means.
+    log, _seg = planted_log(300, seed=2)
+    acts = tm.encode.ActivityProfile().fit(log)
+    X = acts.transform(log).toarray()
+    rng = np.random.default_rng(0)
+    labels = KMeans(3, n_init=3, random_state=0).fit_predict(X)
+    scaled = (labels == 0) * 3.0 + rng.normal(size=len(labels))
+    X2 = np.column_stack([X, scaled])
+    names = [*acts.feature_names_, "price (scaled)"]
+    d = describe_clusters(log, labels, X2, names, top=len(names))
+    text = d.loc[d["cluster"] == 0, "top_features"].item()
+    part = next(t for t in text.split("; ") if "price (scaled)" in t)
+    inside, outside = scaled[labels == 0].mean(), scaled[labels != 0].mean()
+    assert part == f"+price (scaled) (mean {inside:.3g} vs {outside:.3g})"
+    rare = [t for t in text.split("; ") if "% vs " in t]
+    assert rare and all(t.endswith("of cases)") for t in rare)

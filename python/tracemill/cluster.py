@@ -1014,8 +1014,10 @@ def describe_clusters(log: Any, labels: Any, X: Any = None,
 
     Columns: ``cluster``, ``size``, ``share``, ``median_duration``, ``top_variants`` (the most
     frequent variants with their share of the cluster), and with ``X`` ``top_features`` (the
-    features whose mean differs most from the other cases, with the share of cases having
-    them). Noise (label -1) gets its own row.
+    features whose mean differs most from the other cases). A feature that some cases lack
+    (a count or a presence flag) is shown with the share of cases having it, inside vs outside
+    the cluster; a feature with negative values or one that nearly every case has (a scaled
+    number, a duration) with its mean inside vs outside. Noise (label -1) gets its own row.
 
     Examples
     --------
@@ -1040,8 +1042,23 @@ def describe_clusters(log: Any, labels: Any, X: Any = None,
     names = np.asarray(log.activities, dtype=object)
     _s, _e, dur, _len = log.handle.case_stats()
     feats = None
+    col_min = None
     if X is not None:
+        import scipy.sparse as sp
+
         feats = distinguishing_features(X, lab, feature_names, top=top, kind="pandas")
+        col_min = (X.min(axis=0).toarray().ravel() if sp.issparse(X)
+                   else np.asarray(X, dtype=np.float64).min(axis=0))
+        col_of = {f: j for j, f in enumerate(feature_names)} if feature_names is not None \
+            else {str(j): j for j in range(len(col_min))}
+
+    def feature_text(r: Any) -> str:
+        sign = "+" if r.difference >= 0 else "-"
+        signed = col_min is not None and col_min[col_of[r.feature]] < 0
+        if signed or (r.share_in >= 0.99 and r.share_out >= 0.99):
+            return f"{sign}{r.feature} (mean {r.mean_in:.3g} vs {r.mean_out:.3g})"
+        return f"{sign}{r.feature} ({r.share_in:.0%} vs {r.share_out:.0%} of cases)"
+
     rows: dict[str, list[Any]] = {k: [] for k in ("cluster", "size", "share", "median_duration",
                                                  "top_variants", "top_features")}
     for c in np.unique(lab):
@@ -1058,9 +1075,7 @@ def describe_clusters(log: Any, labels: Any, X: Any = None,
         rows["top_variants"].append(tv)
         if feats is not None:
             f = feats[feats["cluster"] == c]
-            rows["top_features"].append("; ".join(
-                f"{'+' if r.difference >= 0 else '-'}{r.feature} ({r.share_in:.0%} vs "
-                f"{r.share_out:.0%})" for r in f.itertuples()))
+            rows["top_features"].append("; ".join(feature_text(r) for r in f.itertuples()))
     cols = {"cluster": Col(np.asarray(rows["cluster"], dtype=np.int64)),
             "size": Col(np.asarray(rows["size"], dtype=np.int64)),
             "share": Col(np.asarray(rows["share"], dtype=np.float64)),
