@@ -421,6 +421,20 @@ def test_pnml_bad_input(text, needle):
         tm.PetriNet.from_pnml(text)
 
 
+def test_pnml_with_several_nets_needs_a_choice():
+    # Two nets in one document (PNML, ISO/IEC 15909-2, allows several <net> elements).
+    def one(i):
+        return (f'<net id="n{i}" type="http://www.pnml.org/version-2009/grammar/ptnet">'
+                f'<page id="g"><place id="p{i}"/></page></net>')
+
+    text = f"<pnml>{one(1)}{one(2)}</pnml>"
+    with pytest.raises(tm.FormatError, match=r"2 nets \('n1', 'n2'\)"):
+        tm.PetriNet.from_pnml(text)
+    assert tm.PetriNet.from_pnml(text, net="n2").places == ["p2"]
+    with pytest.raises(tm.FormatError, match="no net with id 'n3'"):
+        tm.PetriNet.from_pnml(text, net="n3")
+
+
 def test_bpmn_export_structure():
     # BPMN 2.0 (OMG): definitions > process with start/end events, tasks, gateways and
     # sequence flows whose sourceRef/targetRef name existing elements.

@@ -309,16 +309,19 @@ class PetriNet(_Drawable):
         return text
 
     @classmethod
-    def from_pnml(cls, source: str | os.PathLike[str]) -> PetriNet:
-        """Read the first place/transition net of a PNML file (or PNML text starting with
-        ``<``). Raises :class:`~tracemill.FormatError` naming the element and line for
-        malformed files, DOCTYPE declarations and unsupported net types."""
+    def from_pnml(cls, source: str | os.PathLike[str], *, net: str | None = None) -> PetriNet:
+        """Read a place/transition net from a PNML file (or PNML text starting with ``<``).
+
+        A document may hold several nets: ``net`` picks one by its id; without it a document
+        with more than one net raises :class:`~tracemill.FormatError` listing their ids.
+        Raises :class:`~tracemill.FormatError` naming the element and line for malformed
+        files, DOCTYPE declarations and unsupported net types."""
         if isinstance(source, str) and source.lstrip().startswith("<"):
             text = source
         else:
             with open(source, encoding="utf-8") as f:
                 text = f.read()
-        return cls._from_spec(_core.pnml_read(text))
+        return cls._from_spec(_core.pnml_read(text, net))
 
 
 # ------------------------------------------------------------------------------ process trees

@@ -273,8 +273,15 @@ fn walk<'a>(page: &'a El, c: &mut Collect<'a>) -> TmResult<()> {
     Ok(())
 }
 
-/// Read the first net of a PNML document.
+/// Read the net of a PNML document (see [`read_pnml_net`]; a document with several nets is
+/// refused, naming their ids).
 pub fn read_pnml(xml: &str) -> TmResult<PetriNet> {
+    read_pnml_net(xml, None)
+}
+
+/// Read one net of a PNML document: the one with id `net`, or the only one when `net` is
+/// `None` (several nets then give an error listing their ids, never a silent choice).
+pub fn read_pnml_net(xml: &str, net: Option<&str>) -> TmResult<PetriNet> {
     let root = parse_tree(xml)?;
     if root.name != "pnml" {
         return Err(TmError::format(
@@ -285,9 +292,44 @@ pub fn read_pnml(xml: &str) -> TmResult<PetriNet> {
             ),
         ));
     }
-    let net_el = root
-        .child("net")
-        .ok_or_else(|| TmError::format(Some(root.line), "PNML document has no <net> element"))?;
+    let nets: Vec<&El> = root.children.iter().filter(|c| c.name == "net").collect();
+    let ids = || {
+        nets.iter()
+            .map(|n| format!("'{}'", n.attr("id").unwrap_or("?")))
+            .collect::<Vec<_>>()
+            .join(", ")
+    };
+    let net_el = match (net, nets.as_slice()) {
+        (_, []) => {
+            return Err(TmError::format(
+                Some(root.line),
+                "PNML document has no <net> element",
+            ))
+        }
+        (None, [one]) => *one,
+        (None, _) => {
+            return Err(TmError::format(
+                Some(root.line),
+                format!(
+                    "PNML document holds {} nets ({}); choose one by its id",
+                    nets.len(),
+                    ids()
+                ),
+            ))
+        }
+        (Some(id), _) => *nets
+            .iter()
+            .find(|n| n.attr("id") == Some(id))
+            .ok_or_else(|| {
+                TmError::format(
+                    Some(root.line),
+                    format!(
+                        "PNML document has no net with id '{id}'; its nets are {}",
+                        ids()
+                    ),
+                )
+            })?,
+    };
     if let Some(t) = net_el.attr("type") {
         if !(t == PTNET_TYPE || t.trim_end_matches('/').ends_with("/ptnet")) {
             return Err(TmError::format(
@@ -523,6 +565,23 @@ mod tests {
     use super::*;
     use crate::discover::alpha::alpha_net;
     use crate::discover::testlog::running_example;
+
+    #[test]
+    fn several_nets_need_a_choice() {
+        let one = |id: &str| {
+            format!(
+                "<net id=\"{id}\" type=\"{PTNET_TYPE}\"><page id=\"g\">\
+                 <place id=\"p_{id}\"/></page></net>"
+            )
+        };
+        let doc = format!("<pnml>{}{}</pnml>", one("a"), one("b"));
+        let e = read_pnml(&doc).unwrap_err().to_string();
+        assert!(e.contains("2 nets ('a', 'b')"), "{e}");
+        let b = read_pnml_net(&doc, Some("b")).unwrap();
+        assert_eq!(b.places, vec!["p_b".to_string()]);
+        let e = read_pnml_net(&doc, Some("c")).unwrap_err().to_string();
+        assert!(e.contains("no net with id 'c'"), "{e}");
+    }
 
     #[test]
     fn round_trip() {

@@ -21,7 +21,7 @@ use crate::discover::petri::{NetArc, PetriNet, Transition};
 use crate::discover::tree::{NodeKind, ProcessTree};
 use crate::error::TmError;
 use crate::io::bpmn::tree_to_bpmn;
-use crate::io::pnml::{read_pnml, write_pnml};
+use crate::io::pnml::{read_pnml_net, write_pnml};
 
 /// `(places, transition names, labels, arc place, arc transition, arc into-transition, arc
 /// weight, initial marking, final marking)`.
@@ -262,10 +262,11 @@ pub fn tree_bpmn(tree: TreeSpec, name: &str) -> PyResult<String> {
     Ok(tree_to_bpmn(&tree_from(tree).map_err(to_py)?, name))
 }
 
-/// Parse PNML text.
+/// Parse PNML text: the net with id `net`, or the only one.
 #[pyfunction]
-pub fn pnml_read(py: Python<'_>, text: String) -> PyResult<NetSpec> {
-    let n = run(py, None, move |_| read_pnml(&text))?;
+#[pyo3(signature = (text, net=None))]
+pub fn pnml_read(py: Python<'_>, text: String, net: Option<String>) -> PyResult<NetSpec> {
+    let n = run(py, None, move |_| read_pnml_net(&text, net.as_deref()))?;
     Ok(net_to(&n))
 }
 
