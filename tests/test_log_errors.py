@@ -449,3 +449,15 @@ def test_native_errors_map_to_distinct_classes() -> None:
         raised[kind] = type(e.value)
     assert raised == {"Schema": tm.SchemaError, "Parameter": tm.ParameterError,
                       "Data": tm.DataError, "Internal": tm.InternalError}
+
+
+def test_reserved_names_are_the_tables_columns():
+    # The names refused for attributes (one list, exported by the core) are exactly the
+    # standard columns that to_frame and case_table produce.
+    from tracemill import _core
+
+    frame = pd.DataFrame({"case": ["a", "a"], "activity": ["x", "y"],
+                          "time": pd.date_range("2025-01-06", periods=2, freq="h")})
+    log = tm.EventLog.from_frame(frame, case="case", activity="activity", timestamp="time")
+    assert list(log.to_frame().columns) == list(_core.EVENT_TABLE_COLUMNS)
+    assert list(log.case_table().columns) == ["case", *_core.CASE_TABLE_COLUMNS]

@@ -6,6 +6,8 @@ import numpy as np
 import numpy.typing as npt
 
 __version__: str
+EVENT_TABLE_COLUMNS: list[str]
+CASE_TABLE_COLUMNS: list[str]
 
 _ColumnTuple = tuple[str, str, np.ndarray, npt.NDArray[np.bool_] | None, list[str] | None]
 

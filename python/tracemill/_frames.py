@@ -497,8 +497,9 @@ def prepare(frame: Any, *, case: str, activity: str, timestamp: str, resource: s
         seen[name] = role
     # Attributes keep their names in to_frame and case_table, beside the standard columns: a
     # clash would silently replace one column by the other.
-    taken = {"case", "activity", "timestamp", *(r for r in ("resource", "lifecycle") if r in roles)}
-    table = {"start", "end", "duration", "n_events", "variant", "repeats"}
+    taken = {*_core.EVENT_TABLE_COLUMNS,
+             *(r for r in ("resource", "lifecycle") if r in roles)}
+    table = set(_core.CASE_TABLE_COLUMNS)
     for role, names, reserved in [("event attribute", event_attributes, taken),
                                   ("case attribute", case_attributes, taken | table)]:
         for name in names:

@@ -44,6 +44,8 @@ fn _sleep_for_test(py: Python<'_>, seconds: f64, progress: Option<Py<PyAny>>) ->
 #[pymodule(gil_used = false)]
 fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add("__version__", env!("CARGO_PKG_VERSION"))?;
+    m.add("EVENT_TABLE_COLUMNS", xes::EVENT_TABLE.to_vec())?;
+    m.add("CASE_TABLE_COLUMNS", xes::CASE_TABLE.to_vec())?;
     m.add_class::<log::PyLog>()?;
     m.add_function(wrap_pyfunction!(log::build_log, m)?)?;
     m.add_function(wrap_pyfunction!(convert::factorize_utf8, m)?)?;

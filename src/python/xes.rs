@@ -35,9 +35,12 @@ fn type_name(v: &XesValue) -> &'static str {
 }
 
 /// Column names of the Python tables: `EventLog.to_frame` (`case`, `activity`, `timestamp`,
-/// `resource` and `lifecycle` when present) and `EventLog.case_table` (`start`, ...).
-const EVENT_TABLE: [&str; 3] = ["case", "activity", "timestamp"];
-const CASE_TABLE: [&str; 6] = ["start", "end", "duration", "n_events", "variant", "repeats"];
+/// `resource` and `lifecycle` when present) and `EventLog.case_table` (`start`, ...). The one
+/// list: the module exports them (`EVENT_TABLE_COLUMNS`, `CASE_TABLE_COLUMNS`) for the frame
+/// reader's own check.
+pub(crate) const EVENT_TABLE: [&str; 3] = ["case", "activity", "timestamp"];
+pub(crate) const CASE_TABLE: [&str; 6] =
+    ["start", "end", "duration", "n_events", "variant", "repeats"];
 
 /// Attributes keep their keys as column names in the Python tables, where event and case
 /// attributes sit beside the standard columns and each other. A key that would replace another
