@@ -26,6 +26,8 @@ pub enum TmError {
         column: Option<String>,
         /// The input row (0-based) at fault, if one is known.
         row: Option<u64>,
+        /// The 1-based line of a file at fault, if one is known.
+        line: Option<u64>,
         /// What went wrong and what was expected.
         message: String,
     },

@@ -914,8 +914,8 @@ def test_missing_or_unparseable_timestamp_is_a_timestamp_error(when: str | None,
     e = ei.value
     assert isinstance(e, ValueError)
     assert e.column == "time:timestamp" and e.row == 0
-    # The line is in the message (TimestampError carries column and row, not line).
-    assert str(e).startswith("line 5:" if when is None else "line 7:"), str(e)
+    assert e.line == (5 if when is None else 7)
+    assert str(e).startswith(f"line {e.line}:"), str(e)
 
 
 def test_empty_traces_are_skipped_with_a_warning() -> None:

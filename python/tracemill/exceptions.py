@@ -3,7 +3,8 @@
 Every error derives from :class:`TracemillError`, itself a :class:`ValueError`, so that
 ``except ValueError`` keeps working in pipelines that already catch bad input. Errors carry
 structured fields where they apply: ``column`` and ``row`` (0-based input row) for schema and
-timestamp problems, ``line`` (1-based) for file formats, ``parameter`` for bad parameters.
+timestamp problems, ``line`` (1-based) for file formats and timestamps read from files,
+``parameter`` for bad parameters.
 
 Examples
 --------
@@ -41,7 +42,8 @@ class SchemaError(TracemillError):
 
 
 class TimestampError(TracemillError):
-    """A timestamp is null, unparseable, or naive and timezone-aware values are mixed."""
+    """A timestamp is null, unparseable, or naive and timezone-aware values are mixed.
+    ``column`` and ``row`` name it; read from a file, ``line`` (1-based) too."""
 
 
 class FormatError(TracemillError):

@@ -43,9 +43,11 @@ pub fn to_py(e: TmError) -> PyErr {
                 SchemaError::new_err(msg),
                 &[("column", s(column)), ("row", u(row))],
             ),
-            TmError::Timestamp { column, row, .. } => with_fields(
+            TmError::Timestamp {
+                column, row, line, ..
+            } => with_fields(
                 TimestampError::new_err(msg),
-                &[("column", s(column)), ("row", u(row))],
+                &[("column", s(column)), ("row", u(row)), ("line", u(line))],
             ),
             TmError::Format { line, .. } => {
                 with_fields(FormatError::new_err(msg), &[("line", u(line))])

@@ -796,6 +796,7 @@ impl<'o> Parser<'o> {
                     let t = parse_datetime_bytes(raw).map_err(|why| TmError::Timestamp {
                         column: Some(KEY_TIME.into()),
                         row: Some(row as u64),
+                        line: Some(line),
                         message: format!(
                             "line {line}: time:timestamp '{}' of event {row} is not an \
                              xs:dateTime ({why}); expected e.g. 2016-02-29T13:45:00.123+01:00",
@@ -899,6 +900,7 @@ impl<'o> Parser<'o> {
             return Err(TmError::Timestamp {
                 column: Some(KEY_TIME.into()),
                 row: Some(row as u64),
+                line: Some(line),
                 message: format!(
                     "line {line}: the event starting here (event {row} of the file) has no \
                      time:timestamp; every event needs a date attribute 'time:timestamp'"
@@ -1751,6 +1753,7 @@ pub(crate) mod tests {
         match read(&ev("<string key=\"concept:name\" value=\"a\"/>")) {
             Err(TmError::Timestamp {
                 row: Some(0),
+                line: Some(5),
                 message,
                 ..
             }) => {
@@ -1759,7 +1762,8 @@ pub(crate) mod tests {
             other => panic!("{other:?}"),
         }
         match read(&ev("<string key=\"concept:name\" value=\"a\"/>\n<date key=\"time:timestamp\" value=\"2024-02-30T11:00:00Z\"/>")) {
-            Err(TmError::Timestamp { message, .. }) => {
+            Err(TmError::Timestamp { message, line, .. }) => {
+                assert_eq!(line, Some(7));
                 assert!(message.starts_with("line 7:") && message.contains("2024-02-30"), "{message}");
             }
             other => panic!("{other:?}"),

@@ -204,6 +204,7 @@ pub fn parse_datetime(s: &str) -> TmResult<i64> {
     parse_datetime_bytes(s.as_bytes()).map_err(|why| TmError::Timestamp {
         column: None,
         row: None,
+        line: None,
         message: format!(
             "'{s}' is not an xs:dateTime ({why}); expected e.g. 2016-02-29T13:45:00.123+01:00"
         ),
