@@ -371,3 +371,5 @@ def test_demo_section_on_a_small_log():
     text = demo_section(log, truth)
     assert "duration=slow" in text and "segment=spare part" in text
     assert "not cause" in text
+    # Every case registers and is inspected 5-50 minutes later: 200 occurrences within an hour.
+    assert "Register then Inspect: 200 times" in text

@@ -846,11 +846,16 @@ def demo_section(log: Any, truth: Any, *, top: int = 5) -> str:
                  "between):")
     for row in p.itertuples():
         parts.append(f"  {' .. '.join(map(str, row.pattern))}: {row.support:.0%} of slow cases")
-    ep = frequent_episodes(log, "1h", kind="serial", min_frequency=0.02, max_size=2)
+    # MINEPI counts: cases last days while steps are instants, so the share of one-hour
+    # windows (WINEPI) holding any pair is small and hard to read; a count is not.
+    ep = frequent_episodes(log, "1h", kind="serial", measure="minepi",
+                           min_frequency=max(1, round(0.02 * log.n_cases)), max_size=2)
     e = ep.to_frame()
-    e = e[e["size"] == 2].head(top)
-    parts.append("\nWhat follows what within one hour (serial episodes, share of windows):")
+    e = e[e["size"] == 2].sort_values("minimal_occurrences", ascending=False,
+                                      kind="stable").head(top)
+    parts.append("\nWhat follows what within one hour (serial episodes, minimal occurrences):")
     for row in e.itertuples():
-        parts.append(f"  {row.episode[0]} then {row.episode[1]}: {row.frequency:.1%}")
+        parts.append(f"  {row.episode[0]} then {row.episode[1]}: "
+                     f"{int(row.minimal_occurrences):,} times")
     parts.append("(Rules and patterns show association in past cases, not cause.)")
     return "\n".join(parts)
