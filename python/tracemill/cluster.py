@@ -1122,10 +1122,11 @@ def demo_section(log: Any, truth: Any, labels_out: list[Any] | None = None) -> s
         lines.append(f"    separating features: {r.top_features[:160]}")
     table = np.zeros((k, len(names)), dtype=np.int64)
     np.add.at(table, (km.labels_, seg), 1)
-    head = "    group " + "".join(f"{n[:14]:>16}" for n in names)
+    w = max(8, *(len(n) + 2 for n in names))
+    head = "    group " + "".join(f"{n:>{w}}" for n in names)
     lines.append("\n  Groups (rows) against planted segments (columns):\n" + head)
     for g in range(k):
-        lines.append(f"    {g:>5} " + "".join(f"{v:>16,}" for v in table[g]))
+        lines.append(f"    {g:>5} " + "".join(f"{v:>{w},}" for v in table[g]))
     lines.append("  One sub-log per group: log.split(labels); clusters show which cases behave "
                  "alike, not why.")
     return "\n".join(lines)
