@@ -427,14 +427,12 @@ def demo_section(log: EventLog, truth: Any, out_dir: Any = None) -> str:
     ``graphviz`` is installed), and the directly-follows steps that differ most between the two
     largest groups."""
     import os
-    import time
 
     seg = np.asarray(truth.segment)
     names = list(truth.segment_names)
     parts = log.split(seg)
     lines = ["Process models per group (inductive discovery, noise threshold 0.2)"]
     rows = []
-    t0 = time.perf_counter()
     for k in sorted(parts):
         sub = parts[k]
         name = names[int(k)] if 0 <= int(k) < len(names) else str(k)
@@ -477,5 +475,4 @@ def demo_section(log: EventLog, truth: Any, out_dir: Any = None) -> str:
             lines.append(f"  {r.source} > {r.target}: {r.share_A:.1%} vs {r.share_B:.1%}")
     if out_dir is not None:
         lines.append(f"\nDiagrams (DOT, SVG when graphviz is installed) written to {out_dir}")
-    lines.append(f"(section took {time.perf_counter() - t0:.1f} s)")
     return "\n".join(lines)
