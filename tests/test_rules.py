@@ -152,6 +152,22 @@ def test_itemsets_match_mlxtend_and_pyfim(seed, skew):
         assert got_max == fp
 
 
+def test_eclat_on_mixed_density_matches_mlxtend():
+    # Oracle: mlxtend.frequent_patterns.fpgrowth. Items from rare (5 %) to common (90 %):
+    # Eclat's classes of rare items keep tidsets, those of common items switch to diffsets.
+    mlx = pytest.importorskip("mlxtend.frequent_patterns")
+    rng = np.random.default_rng(7)
+    present = rng.random((400, 16)) < np.linspace(0.05, 0.9, 16)
+    baskets = [np.flatnonzero(r).tolist() or [0] for r in present]
+    t = tm.Transactions.from_lists(baskets)
+    df = onehot(baskets)
+    for supp in (0.03, 0.2):
+        want = mlx.fpgrowth(df, min_support=supp, use_colnames=True)
+        want_d = {frozenset(s): round(v * len(baskets)) for s, v in
+                  zip(want["itemsets"], want["support"], strict=False)}
+        assert as_dict(tm.frequent_itemsets(t, supp, algorithm="eclat")) == want_d
+
+
 def test_rules_match_mlxtend_measures():
     # Oracle: mlxtend.frequent_patterns.association_rules (its measure formulas; to 1e-12).
     mlx = pytest.importorskip("mlxtend.frequent_patterns")
