@@ -205,7 +205,7 @@ pub fn hstack(parts: &[CsrView<'_>], weights: &[f64], n_rows: usize) -> TmResult
                 let (a, b) = (p.indptr[r] as usize, p.indptr[r + 1] as usize);
                 for t in a..b {
                     oi[q] = p.indices[t] + off;
-                    od[q] = if w == 1.0 { p.data[t] } else { p.data[t] * w };
+                    od[q] = p.data[t] * w;
                     q += 1;
                 }
             }

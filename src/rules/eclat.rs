@@ -17,7 +17,7 @@
 
 use rayon::prelude::*;
 
-use super::itemsets::{run_tasks, ItemsetParams, Itemsets, Sink};
+use super::itemsets::{frequent_items, run_tasks, ItemsetParams, Itemsets, Sink};
 use super::transactions::Transactions;
 use crate::control::Control;
 use crate::error::TmResult;
@@ -207,15 +207,7 @@ pub(crate) fn mine(
     min: u64,
     ctl: &Control,
 ) -> TmResult<Itemsets> {
-    let counts = t.item_counts();
-    let mut freq: Vec<u32> = (0..t.n_items() as u32)
-        .filter(|&i| counts[i as usize] >= min)
-        .collect();
-    freq.sort_by(|&a, &b| counts[a as usize].cmp(&counts[b as usize]).then(a.cmp(&b)));
-    let mut pos = vec![u32::MAX; t.n_items()];
-    for (k, &i) in freq.iter().enumerate() {
-        pos[i as usize] = k as u32;
-    }
+    let (counts, freq, pos) = frequent_items(t, min, true);
     let mut items: Vec<Member> = freq
         .iter()
         .map(|&i| Member {

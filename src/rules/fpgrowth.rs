@@ -29,7 +29,7 @@
 //! Example 6.5 of Han, Kamber & Pei (the conditional pattern base of I5 is {I2,I1:1},
 //! {I2,I1,I3:1}, giving {I2,I5}:2, {I1,I5}:2 and {I2,I1,I5}:2) is reproduced in the tests.
 
-use super::itemsets::{run_tasks, ItemsetParams, Itemsets, Sink};
+use super::itemsets::{frequent_items, run_tasks, ItemsetParams, Itemsets, Sink};
 use super::transactions::Transactions;
 use crate::control::Control;
 use crate::error::{TmError, TmResult};
@@ -324,15 +324,7 @@ pub(crate) fn mine(
     min: u64,
     ctl: &Control,
 ) -> TmResult<Itemsets> {
-    let counts = t.item_counts();
-    let mut freq: Vec<u32> = (0..t.n_items() as u32)
-        .filter(|&i| counts[i as usize] >= min)
-        .collect();
-    freq.sort_by(|&a, &b| counts[b as usize].cmp(&counts[a as usize]).then(a.cmp(&b)));
-    let mut rank = vec![u32::MAX; t.n_items()];
-    for (r, &i) in freq.iter().enumerate() {
-        rank[i as usize] = r as u32;
-    }
+    let (_counts, freq, rank) = frequent_items(t, min, false);
     let n_ranks = freq.len();
     // Transactions as rank paths.
     let mut off = Vec::with_capacity(t.len() + 1);

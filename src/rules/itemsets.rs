@@ -301,6 +301,29 @@ fn limit_marker() -> TmError {
     }
 }
 
+/// The frequent items: `(counts, items, pos)` with the items in order of support
+/// (ascending or descending, ties by item code) and `pos[item]` its place in that order, or
+/// `u32::MAX` for an infrequent item.
+pub(crate) fn frequent_items(
+    t: &Transactions,
+    min: u64,
+    ascending: bool,
+) -> (Vec<u64>, Vec<u32>, Vec<u32>) {
+    let counts = t.item_counts();
+    let mut freq: Vec<u32> = (0..t.n_items() as u32)
+        .filter(|&i| counts[i as usize] >= min)
+        .collect();
+    freq.sort_by(|&a, &b| {
+        let by = counts[a as usize].cmp(&counts[b as usize]);
+        if ascending { by } else { by.reverse() }.then(a.cmp(&b))
+    });
+    let mut pos = vec![u32::MAX; t.n_items()];
+    for (k, &i) in freq.iter().enumerate() {
+        pos[i as usize] = k as u32;
+    }
+    (counts, freq, pos)
+}
+
 /// Run `task(k, sink)` for `k in 0..n_tasks` in parallel and merge the sinks in task order,
 /// applying the bound; `describe` names the search in the limit message.
 pub(crate) fn run_tasks<F>(
